@@ -1,0 +1,416 @@
+"""Intake and output: sparse matrices and permutation files.
+
+This module is the one validation gate for user files. Readers return SciPy CSR matrices (square,
+duplicates summed, explicit zeros kept unless asked otherwise) or 0-based permutation arrays, and raise
+:class:`~reorder.errors.InputError` with a one-line message for anything malformed. Writers are atomic:
+they write a temporary file beside the target and rename it.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import gzip
+import io as _io
+import os
+import warnings
+from pathlib import Path
+
+import numpy as np
+import scipy.io
+import scipy.sparse as sp
+
+from .errors import InputError
+
+__all__ = [
+    "read_matrix",
+    "write_matrix",
+    "read_permutation",
+    "write_permutation",
+    "atomic_path",
+    "check_permutation",
+    "MAX_DIMENSION",
+    "MAX_ENTRIES",
+]
+
+#: Largest accepted matrix dimension (rows); larger declared sizes are refused before allocating.
+MAX_DIMENSION = 2**31 - 2
+#: Largest accepted number of stored entries declared by a file header.
+MAX_ENTRIES = 2**31 - 2
+
+_HB_SUFFIXES = {".rb", ".hb", ".rua", ".rsa", ".rza", ".rha", ".pua", ".psa", ".cua", ".csa", ".cha"}
+
+
+# --------------------------------------------------------------------------------------------------
+# atomic output
+# --------------------------------------------------------------------------------------------------
+@contextlib.contextmanager
+def atomic_path(path, suffix: str = ""):
+    """Yield a temporary path beside ``path``; rename it onto ``path`` if the block succeeds.
+
+    The temporary file is removed if the block raises (including ``KeyboardInterrupt``), so a failed
+    or interrupted write never leaves a partial output file.
+
+    Parameters
+    ----------
+    path : path-like
+        The final file name.
+    suffix : str
+        Extra suffix for the temporary name (some writers insist on an extension, e.g. ``.npz``).
+    """
+    path = Path(path)
+    parent = path.parent if str(path.parent) else Path(".")
+    if not parent.is_dir():
+        raise InputError("output folder does not exist", str(parent))
+    if path.is_dir():
+        raise InputError("output path is a folder", str(path))
+    tmp = parent / f".{path.name}.{os.getpid()}.tmp{suffix}"
+    try:
+        yield tmp
+        os.replace(tmp, path)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp.unlink()
+        raise
+
+
+# --------------------------------------------------------------------------------------------------
+# matrices
+# --------------------------------------------------------------------------------------------------
+def _open_text(path: Path):
+    if path.suffix == ".gz":
+        return gzip.open(path, "rt", encoding="latin-1", errors="replace")
+    return open(path, encoding="latin-1", errors="replace")
+
+
+def _mm_header(path: Path):
+    """Parse and check a Matrix Market banner and size line without reading the entries."""
+    try:
+        with _open_text(path) as fh:
+            banner = fh.readline()
+            if not banner:
+                raise InputError("empty file", str(path))
+            words = banner.strip().split()
+            if len(words) != 5 or words[0].lower() != "%%matrixmarket" or words[1].lower() != "matrix":
+                raise InputError("not a Matrix Market file (bad banner line)", str(path))
+            fmt, field, symmetry = (w.lower() for w in words[2:])
+            if fmt not in ("coordinate", "array"):
+                raise InputError(f"unknown Matrix Market format '{fmt}'", str(path))
+            if field not in ("real", "integer", "complex", "pattern", "double"):
+                raise InputError(f"unknown Matrix Market field '{field}'", str(path))
+            if symmetry not in ("general", "symmetric", "skew-symmetric", "hermitian"):
+                raise InputError(f"unknown Matrix Market symmetry '{symmetry}'", str(path))
+            line = fh.readline()
+            while line and (line.startswith("%") or not line.strip()):
+                line = fh.readline()
+            if not line:
+                raise InputError("no size line after the header", str(path))
+            parts = line.split()
+    except (OSError, EOFError, UnicodeError) as exc:
+        raise InputError(f"cannot read file ({exc.__class__.__name__}: {exc})", str(path)) from None
+    want = 3 if fmt == "coordinate" else 2
+    if len(parts) != want:
+        raise InputError(f"size line should hold {want} integers, found '{line.strip()[:60]}'", str(path))
+    try:
+        dims = [int(x) for x in parts]
+    except ValueError:
+        raise InputError(f"size line is not integers: '{line.strip()[:60]}'", str(path)) from None
+    rows, cols = dims[0], dims[1]
+    entries = dims[2] if fmt == "coordinate" else rows * cols
+    if rows < 0 or cols < 0 or entries < 0:
+        raise InputError(f"negative size in size line ({rows} x {cols}, {entries} entries)", str(path))
+    if rows != cols:
+        raise InputError(f"matrix is not square ({rows} x {cols})", str(path))
+    if rows > MAX_DIMENSION or entries > MAX_ENTRIES:
+        raise InputError(f"declared size too large to hold ({rows} rows, {entries} entries)", str(path))
+    if fmt == "coordinate" and symmetry == "general" and entries > rows * cols:
+        raise InputError(f"declares {entries} entries, more than {rows} x {cols}", str(path))
+    return fmt, field, symmetry, rows, entries
+
+
+def _read_mm(path: Path):
+    fmt, field, symmetry, n, entries = _mm_header(path)
+    try:
+        if path.suffix == ".gz":
+            with gzip.open(path, "rb") as fh:
+                data = fh.read()
+            mat = scipy.io.mmread(_io.BytesIO(data))
+        else:
+            mat = scipy.io.mmread(str(path))
+    except InputError:
+        raise
+    except (MemoryError, KeyboardInterrupt):
+        raise
+    except Exception as exc:  # the reader's own message, squeezed to one line
+        msg = str(exc).strip().splitlines()[0] if str(exc).strip() else exc.__class__.__name__
+        raise InputError(f"malformed Matrix Market file: {msg}", str(path)) from None
+    if sp.issparse(mat):
+        coo = sp.coo_matrix(mat)
+        if coo.nnz != (entries if symmetry == "general" else coo.nnz):
+            raise InputError(f"header declares {entries} entries but {coo.nnz} were read", str(path))
+        return sp.csr_matrix(coo), fmt
+    dense = np.asarray(mat)
+    return sp.csr_matrix(dense), fmt  # dense array format: exact zeros are not structural
+
+
+def _read_hb(path: Path):
+    """Harwell–Boeing via SciPy's ``hb_read``; symmetric types are expanded here."""
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read()
+    except OSError as exc:
+        raise InputError(f"cannot read file ({exc.strerror})", str(path)) from None
+    lines = raw.split(b"\n", 4)
+    if len(lines) < 4 or len(lines[2]) < 3:
+        raise InputError("not a Harwell-Boeing file (header too short)", str(path))
+    mxtype = lines[2][:3].decode("latin-1").upper()
+    if len(mxtype) != 3 or mxtype[0] not in "RCP" or mxtype[1] not in "USHZR" or mxtype[2] not in "AE":
+        raise InputError(f"not a Harwell-Boeing file (type '{mxtype}')", str(path))
+    if mxtype[2] == "E":
+        raise InputError("elemental (unassembled) Harwell-Boeing matrices are not supported", str(path))
+    if mxtype[0] != "R":
+        raise InputError(f"Harwell-Boeing type '{mxtype}' is not supported (real assembled only)", str(path))
+    patched = raw[: raw.index(lines[2])] + b"RUA" + raw[raw.index(lines[2]) + 3 :]
+    try:
+        mat = scipy.io.hb_read(_io.StringIO(patched.decode("latin-1")))
+    except (MemoryError, KeyboardInterrupt):
+        raise
+    except Exception as exc:
+        msg = str(exc).strip().splitlines()[0] if str(exc).strip() else exc.__class__.__name__
+        raise InputError(f"malformed Harwell-Boeing file: {msg}", str(path)) from None
+    mat = sp.csr_matrix(mat)
+    if mat.shape[0] != mat.shape[1]:
+        raise InputError(f"matrix is not square ({mat.shape[0]} x {mat.shape[1]})", str(path))
+    if mxtype[1] in "SHZ":
+        low = sp.tril(mat, -1)
+        up = low.T if mxtype[1] != "Z" else -low.T
+        mat = sp.csr_matrix(mat + up)
+    return mat, "hb"
+
+
+def _read_npz(path: Path):
+    try:
+        mat = sp.load_npz(path)
+    except (MemoryError, KeyboardInterrupt):
+        raise
+    except Exception as exc:
+        msg = str(exc).strip().splitlines()[0] if str(exc).strip() else exc.__class__.__name__
+        raise InputError(f"not a SciPy sparse .npz file: {msg}", str(path)) from None
+    if mat.ndim != 2:
+        raise InputError("array is not two-dimensional", str(path))
+    if mat.shape[0] != mat.shape[1]:
+        raise InputError(f"matrix is not square ({mat.shape[0]} x {mat.shape[1]})", str(path))
+    return sp.csr_matrix(mat), "npz"
+
+
+def matrix_name(path) -> str:
+    """The file name without its matrix extension(s): ``plate.mtx.gz`` → ``plate``."""
+    name = Path(path).name
+    for ext in (".gz",):
+        if name.endswith(ext):
+            name = name[: -len(ext)]
+    stem, dot, ext = name.rpartition(".")
+    return stem if dot and stem else name
+
+
+def read_matrix(path, *, drop_zeros: bool = False) -> sp.csr_matrix:
+    """Read a square sparse matrix from Matrix Market, Harwell–Boeing or SciPy ``.npz``.
+
+    Parameters
+    ----------
+    path : path-like
+        ``.mtx`` / ``.mtx.gz`` (coordinate or array; real, integer, complex or pattern; general,
+        symmetric, skew-symmetric or hermitian), Harwell–Boeing (``.rb``, ``.rua``, ``.rsa``, …,
+        real assembled), or ``.npz`` written by :func:`scipy.sparse.save_npz`. Files with another
+        extension are recognised by their first line.
+    drop_zeros : bool
+        Drop explicitly stored zeros. By default they count as structural entries, as a solver
+        stores them.
+
+    Returns
+    -------
+    scipy.sparse.csr_matrix
+        Square, canonical (sorted indices, duplicates summed). Symmetric storage is expanded to
+        both triangles. Pattern files get all-ones values.
+
+    Raises
+    ------
+    InputError
+        Missing, unreadable, malformed or non-square input, with a one-line reason.
+    """
+    path = Path(path)
+    if not path.exists():
+        raise InputError("no such file", str(path))
+    if path.is_dir():
+        raise InputError("is a folder, not a matrix file", str(path))
+    if not os.access(path, os.R_OK):
+        raise InputError("file is not readable", str(path))
+    suffixes = [s.lower() for s in path.suffixes]
+    last = suffixes[-1] if suffixes else ""
+    if last == ".npz":
+        mat, kind = _read_npz(path)
+    elif last in _HB_SUFFIXES:
+        mat, kind = _read_hb(path)
+    elif last in (".mtx", ".mm") or suffixes[-2:] in ([".mtx", ".gz"], [".mm", ".gz"]):
+        mat, kind = _read_mm(path)
+    else:  # sniff
+        try:
+            with _open_text(path) as fh:
+                first = fh.readline(64)
+        except (OSError, EOFError) as exc:
+            raise InputError(f"cannot read file ({exc})", str(path)) from None
+        if first.lower().startswith("%%matrixmarket"):
+            mat, kind = _read_mm(path)
+        else:
+            raise InputError(
+                "unrecognised matrix file (expected .mtx, .mtx.gz, Harwell-Boeing .rb/.rua/.rsa or .npz)",
+                str(path),
+            )
+    mat.sum_duplicates()
+    mat.sort_indices()
+    if drop_zeros:
+        mat.eliminate_zeros()
+    if mat.dtype.kind in "fc" and mat.nnz and not np.all(np.isfinite(mat.data)):
+        warnings.warn(f"{path}: matrix holds NaN or Inf values; only its pattern is used", stacklevel=2)
+    if mat.indptr.dtype != np.int64 and mat.nnz > 2**31 - 1:
+        raise InputError("too many entries", str(path))
+    return mat
+
+
+def write_matrix(path, matrix, *, comment: str = "") -> None:
+    """Write a sparse matrix atomically: Matrix Market (``.mtx``, ``.mtx.gz``) or ``.npz``."""
+    path = Path(path)
+    mat = sp.csr_matrix(matrix)
+    name = path.name.lower()
+    if name.endswith(".npz"):
+        with atomic_path(path, suffix=".npz") as tmp:
+            sp.save_npz(tmp, mat, compressed=True)
+    elif name.endswith(".mtx") or name.endswith(".mtx.gz") or name.endswith(".mm"):
+        with atomic_path(path) as tmp:
+            buf = _io.BytesIO()
+            scipy.io.mmwrite(buf, sp.coo_matrix(mat), comment=comment)
+            data = buf.getvalue()
+            if name.endswith(".gz"):
+                data = gzip.compress(data, mtime=0)
+            tmp.write_bytes(data)
+    else:
+        raise InputError("output matrix must end in .mtx, .mtx.gz or .npz", str(path))
+
+
+# --------------------------------------------------------------------------------------------------
+# permutations
+# --------------------------------------------------------------------------------------------------
+def check_permutation(perm, n: int | None = None, *, source: str | None = None) -> np.ndarray:
+    """Return ``perm`` as a 0-based int64 array after checking that it permutes ``0..n-1``.
+
+    Raises
+    ------
+    InputError
+        With a message that names the first problem found (length, range, repeated index).
+    """
+    arr = np.asarray(perm)
+    if arr.ndim != 1:
+        raise InputError(f"permutation must be one-dimensional, got shape {arr.shape}", source)
+    if arr.dtype.kind == "f":
+        if not np.all(np.isfinite(arr)) or np.any(arr != np.round(arr)):
+            raise InputError("permutation holds non-integer values", source)
+        arr = arr.astype(np.int64)
+    elif arr.dtype.kind not in "iu":
+        if arr.size == 0:
+            arr = arr.astype(np.int64)
+        else:
+            raise InputError(f"permutation must hold integers, not {arr.dtype}", source)
+    arr = arr.astype(np.int64, copy=False)
+    m = arr.size if n is None else n
+    if n is not None and arr.size != n:
+        raise InputError(f"permutation has {arr.size} entries but the matrix has {n} rows", source)
+    if arr.size:
+        lo, hi = int(arr.min()), int(arr.max())
+        if lo < 0 or hi >= m:
+            bad = lo if lo < 0 else hi
+            raise InputError(f"index {bad} out of range 0..{m - 1}", source)
+        counts = np.bincount(arr, minlength=m)
+        if np.any(counts != 1):
+            dup = int(np.flatnonzero(counts > 1)[0])
+            raise InputError(f"index {dup} appears {counts[dup]} times (not a permutation)", source)
+    return arr
+
+
+def read_permutation(path, n: int | None = None, *, base: int | None = None) -> np.ndarray:
+    """Read a permutation file and return it 0-based.
+
+    Text files hold one index per line; lines starting with ``#`` are comments. The base is found
+    automatically: a list that contains ``n`` and not ``0`` is 1-based. ``.npy`` files hold a 1-D
+    integer array, read the same way.
+
+    Parameters
+    ----------
+    path : path-like
+    n : int, optional
+        The matrix size it must permute.
+    base : {0, 1}, optional
+        Force the base instead of detecting it.
+    """
+    path = Path(path)
+    src = str(path)
+    if not path.exists():
+        raise InputError("no such file", src)
+    if path.is_dir():
+        raise InputError("is a folder, not a permutation file", src)
+    if path.suffix.lower() == ".npy":
+        try:
+            arr = np.load(path, allow_pickle=False)
+        except Exception as exc:
+            raise InputError(f"not a NumPy .npy permutation: {str(exc).splitlines()[0] if str(exc) else exc}", src) from None
+    else:
+        values = []
+        try:
+            with open(path, encoding="utf-8", errors="replace") as fh:
+                for lineno, line in enumerate(fh, 1):
+                    s = line.strip()
+                    if not s or s.startswith("#"):
+                        continue
+                    try:
+                        values.append(int(s))
+                    except ValueError:
+                        raise InputError(f"line {lineno}: '{s[:40]}' is not an integer", src) from None
+        except OSError as exc:
+            raise InputError(f"cannot read file ({exc.strerror})", src) from None
+        arr = np.array(values, dtype=np.int64)
+    arr = np.asarray(arr)
+    if arr.size == 0 and (n is None or n > 0):
+        raise InputError("permutation file is empty", src)
+    if arr.ndim != 1:
+        raise InputError(f"permutation must be one-dimensional, got shape {arr.shape}", src)
+    if arr.dtype.kind not in "iu":
+        return check_permutation(arr, n, source=src)  # reports the type problem
+    m = arr.size if n is None else n
+    if base is None:
+        has_zero = bool(np.any(arr == 0))
+        base = 1 if (not has_zero and arr.size and int(arr.max()) == m) else 0
+    if base not in (0, 1):
+        raise InputError(f"base must be 0 or 1, not {base}", src)
+    return check_permutation(arr.astype(np.int64) - base, n, source=src)
+
+
+def write_permutation(path, perm, *, base: int = 0, header: list[str] | None = None) -> None:
+    """Write a permutation atomically: text (one index per line, ``#`` comment header) or ``.npy``.
+
+    Position ``i`` of the new order holds old index ``perm[i]``, i.e. the reordered matrix is
+    ``A[perm][:, perm]``.
+    """
+    if base not in (0, 1):
+        raise InputError(f"base must be 0 or 1, not {base}")
+    path = Path(path)
+    arr = check_permutation(perm) + base
+    if path.suffix.lower() == ".npy":
+        with atomic_path(path, suffix=".npy") as tmp:
+            with open(tmp, "wb") as fh:
+                np.save(fh, arr)
+        return
+    lines = [f"# {h}" for h in (header or [])]
+    with atomic_path(path) as tmp:
+        with open(tmp, "w", encoding="utf-8", newline="\n") as fh:
+            if lines:
+                fh.write("\n".join(lines) + "\n")
+            if arr.size:
+                fh.write("\n".join(map(str, arr.tolist())) + "\n")
