@@ -13,6 +13,7 @@ import gzip
 import io as _io
 import os
 import warnings
+import zlib
 from pathlib import Path
 
 import numpy as np
@@ -30,6 +31,8 @@ __all__ = [
     "check_permutation",
     "MAX_DIMENSION",
     "MAX_ENTRIES",
+    "available_memory",
+    "estimate_bytes",
 ]
 
 #: Largest accepted matrix dimension (rows); larger declared sizes are refused before allocating.
@@ -105,7 +108,7 @@ def _mm_header(path: Path):
             if not line:
                 raise InputError("no size line after the header", str(path))
             parts = line.split()
-    except (OSError, EOFError, UnicodeError) as exc:
+    except (OSError, EOFError, UnicodeError, zlib.error) as exc:
         raise InputError(f"cannot read file ({exc.__class__.__name__}: {exc})", str(path)) from None
     want = 3 if fmt == "coordinate" else 2
     if len(parts) != want:
@@ -124,7 +127,35 @@ def _mm_header(path: Path):
         raise InputError(f"declared size too large to hold ({rows} rows, {entries} entries)", str(path))
     if fmt == "coordinate" and symmetry == "general" and entries > rows * cols:
         raise InputError(f"declares {entries} entries, more than {rows} x {cols}", str(path))
+    need = estimate_bytes(rows, entries * (2 if symmetry != "general" else 1))
+    have = available_memory()
+    if have and need > have:
+        raise InputError(
+            f"declared size ({rows} rows, {entries} entries) needs about {need / 2**30:.1f} GiB, "
+            f"more than the {have / 2**30:.1f} GiB of memory available",
+            str(path),
+        )
     return fmt, field, symmetry, rows, entries
+
+
+def available_memory() -> int:
+    """Bytes of memory available to this process (0 if unknown)."""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        return int(os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE"))
+    except (ValueError, OSError, AttributeError):
+        return 0
+
+
+def estimate_bytes(rows: int, entries: int) -> int:
+    """Rough peak memory to read a matrix and build its graph: COO triplets, CSR copies, graph."""
+    return int(64 * rows + 80 * entries)
 
 
 def _read_mm(path: Path):
@@ -256,7 +287,7 @@ def read_matrix(path, *, drop_zeros: bool = False) -> sp.csr_matrix:
         try:
             with _open_text(path) as fh:
                 first = fh.readline(64)
-        except (OSError, EOFError) as exc:
+        except (OSError, EOFError, UnicodeError, zlib.error) as exc:
             raise InputError(f"cannot read file ({exc})", str(path)) from None
         if first.lower().startswith("%%matrixmarket"):
             mat, kind = _read_mm(path)
