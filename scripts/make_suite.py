@@ -459,18 +459,25 @@ case("truss_tiny", "fem2d", ["tiny", "elasticity", "truss", "hb"],
 # driver
 # --------------------------------------------------------------------------------------------------
 def _check_spd(A) -> bool:
-    """Sparse LU without pivoting (symmetric mode); all pivots > 0 means SPD for symmetric A."""
-    import scipy.sparse.linalg as sla
+    """Symmetric A is SPD iff Gaussian elimination without pivoting has only positive pivots.
 
-    A = sp.csc_matrix(A, dtype=float)
+    Small matrices: NumPy dense Cholesky. Larger: SciPy's sparse LU in the reverse Cuthill-McKee order
+    (SciPy), natural column order, no row pivoting (``diag_pivot_thresh=0``); the pivots are U's diagonal.
+    """
+    import scipy.sparse.linalg as sla
+    from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+    A = sp.csr_matrix(A, dtype=float)
     if A.shape[0] <= 2000:
         try:
             np.linalg.cholesky(A.toarray())
             return True
         except np.linalg.LinAlgError:
             return False
-    lu = sla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
-    return bool(np.all(lu.U.diagonal() > 0)) and bool(np.all(lu.perm_r == lu.perm_c))
+    p = reverse_cuthill_mckee(A, symmetric_mode=True)
+    B = sp.csc_matrix(A[p][:, p])
+    lu = sla.splu(B, permc_spec="NATURAL", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
+    return bool(np.all(lu.perm_r == np.arange(B.shape[0]))) and bool(np.all(lu.U.diagonal() > 0))
 
 
 README_HEAD = """\
