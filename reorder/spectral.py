@@ -1,20 +1,55 @@
-"""Fiedler vectors of graph Laplacians (placeholder: dense and plain LOBPCG paths only).
+"""Fiedler vectors of graph Laplacians: operators, eigensolvers with fallbacks, level structures.
 
-The full engine (AMG-preconditioned LOBPCG, fallbacks, normalized operator) replaces this module
-behind the same signature.
+:func:`fiedler_vector` returns the eigenvector of the second-smallest eigenvalue of the combinatorial
+or normalized Laplacian of a connected graph, by dense ``eigh`` (small graphs), shift-invert Lanczos
+(medium graphs) or LOBPCG preconditioned by a smoothed-aggregation AMG V-cycle (large graphs), and
+falls back along a chain that ends with a breadth-first level structure, so it never raises.
+
+References
+----------
+.. [1] M. Fiedler, "Algebraic connectivity of graphs", Czechoslovak Math. J. 23 (1973) 298–305.
+.. [2] F. R. K. Chung, "Spectral Graph Theory", AMS CBMS 92 (1997) (normalized Laplacian).
+.. [3] A. V. Knyazev, "Toward the optimal preconditioned eigensolver: locally optimal block
+       preconditioned conjugate gradient method", SIAM J. Sci. Comput. 23 (2001) 517–541.
+.. [4] P. Vaněk, J. Mandel and M. Brezina, "Algebraic multigrid by smoothed aggregation for second
+       and fourth order elliptic problems", Computing 56 (1996) 179–196.
+.. [5] R. B. Lehoucq, D. C. Sorensen and C. Yang, "ARPACK Users' Guide", SIAM (1998)
+       (implicitly restarted Lanczos, shift-invert mode).
+.. [6] A. George and J. W. H. Liu, "An implementation of a pseudoperipheral node finder",
+       ACM Trans. Math. Softw. 5 (1979) 284–295.
 """
 
 from __future__ import annotations
 
+import time
+import warnings
+from contextlib import nullcontext
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.linalg as sla
 import scipy.sparse as sp
-from scipy.sparse.linalg import lobpcg
+from scipy.sparse.linalg import LinearOperator, eigsh, lobpcg
 
+from .errors import InputError
 from .graph import Graph
+from .kernels import envelope as _ke
 
-__all__ = ["FiedlerResult", "fiedler_vector", "laplacian"]
+__all__ = [
+    "FiedlerResult",
+    "fiedler_vector",
+    "laplacian",
+    "normalized_laplacian",
+    "level_structure_vector",
+    "pseudo_peripheral_pair",
+    "SOLVERS",
+]
+
+#: Names accepted by ``fiedler_vector(solver=...)`` (besides "auto"), also the ``path`` values.
+SOLVERS = ("dense", "eigsh", "lobpcg-amg", "lobpcg", "level-structure")
+
+_OPERATORS = ("laplacian", "normalized")
+_WEIGHTS = ("pattern", "values")
 
 
 @dataclass(frozen=True, eq=False)
@@ -29,13 +64,19 @@ class FiedlerResult:
     value : float
         The eigenvalue λ₂.
     path : str
-        Which solver produced it ("dense", "lobpcg", "lobpcg-amg", "eigsh", "level-structure", ...).
+        Which solver produced it ("trivial", "dense", "eigsh", "lobpcg-amg", "lobpcg",
+        "level-structure").
     residual : float
-        ``‖L x − λ x‖ / ‖L‖``-style relative residual reached.
+        ``‖A x − λ x‖₂ / ‖A‖`` for the returned vector, with ``‖A‖`` bounded by twice the largest
+        weighted degree (combinatorial) or by 2 (normalized).
     iterations : int
+        Eigensolver iterations of the successful attempt (0 for dense).
     vectors : ndarray or None
-        Further eigenvectors (n × k) when more than one was asked for, else None.
+        ``n × k`` eigenvectors (the Fiedler vector first) when ``k > 1`` was asked for, else None.
+        At most ``n − 1`` columns.
     info : dict
+        ``operator``, ``weights``, ``n``, ``attempts`` (one dict per solver tried, with its outcome),
+        ``seconds``, ``values`` (the k computed eigenvalues), ``residual_over_lambda``.
     """
 
     vector: np.ndarray
@@ -47,35 +88,475 @@ class FiedlerResult:
     info: dict = field(default_factory=dict)
 
 
+# --------------------------------------------------------------------------------------------------
+# operators
+
+
+def _check(operator: str, weights: str) -> None:
+    if operator not in _OPERATORS:
+        raise InputError(f"operator must be one of {', '.join(_OPERATORS)}, not {operator!r}")
+    if weights not in _WEIGHTS:
+        raise InputError(f"weights must be one of {', '.join(_WEIGHTS)}, not {weights!r}")
+
+
+def _adjacency(graph: Graph, weights: str) -> sp.csr_matrix:
+    return graph.to_csr(weighted=(weights == "values"))
+
+
 def laplacian(graph: Graph, *, weights: str = "pattern") -> sp.csr_matrix:
-    """Combinatorial Laplacian ``L = D − W`` of the graph."""
-    W = graph.to_csr(weighted=(weights == "values"))
+    """Combinatorial Laplacian ``L = D − W`` of the graph.
+
+    Parameters
+    ----------
+    graph : Graph
+    weights : {"pattern", "values"}
+        ``"pattern"``: all edge weights 1; ``"values"``: the graph's weights (|a_ij|) if it has any.
+
+    Returns
+    -------
+    scipy.sparse.csr_matrix
+        Symmetric, positive semidefinite, rows summing to zero.
+
+    References
+    ----------
+    Fiedler (1973), Czechoslovak Math. J.
+    """
+    _check("laplacian", weights)
+    W = _adjacency(graph, weights)
     d = np.asarray(W.sum(axis=1)).ravel()
     return sp.csr_matrix(sp.diags(d) - W)
 
 
+def normalized_laplacian(graph: Graph, *, weights: str = "pattern") -> sp.csr_matrix:
+    """Normalized Laplacian ``I − D^{-1/2} W D^{-1/2}`` (isolated vertices get a zero row).
+
+    Its null vector is ``D^{1/2}·1``; its spectrum lies in ``[0, 2]``.
+
+    Parameters
+    ----------
+    graph : Graph
+    weights : {"pattern", "values"}
+
+    Returns
+    -------
+    scipy.sparse.csr_matrix
+
+    References
+    ----------
+    F. R. K. Chung, "Spectral Graph Theory", AMS CBMS 92 (1997), chapter 1.
+    """
+    _check("normalized", weights)
+    W = _adjacency(graph, weights)
+    d = np.asarray(W.sum(axis=1)).ravel()
+    s = np.zeros_like(d)
+    s[d > 0] = 1.0 / np.sqrt(d[d > 0])
+    S = sp.diags(s)
+    return sp.csr_matrix(sp.diags((d > 0).astype(np.float64)) - S @ W @ S)
+
+
+def _operator(graph: Graph, operator: str, weights: str):
+    """(matrix, unit trivial vector, norm bound, degrees, combinatorial Laplacian)."""
+    W = _adjacency(graph, weights)
+    d = np.asarray(W.sum(axis=1)).ravel()
+    L = sp.csr_matrix(sp.diags(d) - W)
+    if operator == "laplacian":
+        A = L
+        y = np.ones(graph.n)
+        bound = 2.0 * float(d.max()) if d.size else 1.0
+    else:
+        s = np.zeros_like(d)
+        s[d > 0] = 1.0 / np.sqrt(d[d > 0])
+        S = sp.diags(s)
+        A = sp.csr_matrix(sp.diags((d > 0).astype(np.float64)) - S @ W @ S)
+        y = np.sqrt(d)
+        bound = 2.0
+    y = y / (np.linalg.norm(y) or 1.0)
+    return A, y, (bound or 1.0), d, L
+
+
+# --------------------------------------------------------------------------------------------------
+# level structures
+
+
+def pseudo_peripheral_pair(graph: Graph, start: int | None = None, max_sweeps: int = 8):
+    """A pair of vertices far apart, by repeated breadth-first search.
+
+    Starting from ``start`` (default: a vertex of minimum degree, smallest index), search from a
+    minimum-degree vertex of the deepest level until the eccentricity stops growing.
+
+    Parameters
+    ----------
+    graph : Graph
+        Connected (otherwise only the component of ``start`` is explored).
+    start : int, optional
+    max_sweeps : int
+
+    Returns
+    -------
+    (s, e, levels_s, levels_e)
+        The two vertices and the breadth-first distances from each.
+
+    References
+    ----------
+    A. George and J. W. H. Liu, "An implementation of a pseudoperipheral node finder",
+    ACM Trans. Math. Softw. 5 (1979) 284–295.
+    """
+    n = graph.n
+    deg = graph.degrees()
+    if start is None:
+        start = int(np.argmin(deg))
+    s = int(start)
+    ls = _ke.bfs_levels(n, graph.indptr, graph.indices, s)
+    ecc = int(ls.max())
+    for _ in range(max_sweeps):
+        last = np.flatnonzero(ls == ecc)
+        e = int(last[np.argmin(deg[last])])
+        le = _ke.bfs_levels(n, graph.indptr, graph.indices, e)
+        ecc_e = int(le.max())
+        if ecc_e > ecc:
+            s, ls, ecc = e, le, ecc_e
+            continue
+        return s, e, ls, le
+    last = np.flatnonzero(ls == ecc)
+    e = int(last[np.argmin(deg[last])])
+    return s, e, ls, _ke.bfs_levels(n, graph.indptr, graph.indices, e)
+
+
+def level_structure_vector(graph: Graph, *, start: int | None = None) -> np.ndarray:
+    """Breadth-first distances from a pseudo-peripheral vertex, as a float vector.
+
+    A cheap stand-in for the Fiedler vector (its order is a Cuthill–McKee-like level order); used
+    as the last fallback of :func:`fiedler_vector` and as an envelope candidate.
+
+    Parameters
+    ----------
+    graph : Graph
+    start : int, optional
+        Where the pseudo-peripheral search starts.
+
+    Returns
+    -------
+    ndarray of float64, shape (n,)
+        Unreachable vertices get level ``max + 1``.
+
+    References
+    ----------
+    George & Liu (1979), ACM TOMS; E. Cuthill and J. McKee, Proc. 24th ACM Nat. Conf. (1969).
+    """
+    if graph.n == 0:
+        return np.zeros(0)
+    s, _, ls, _ = pseudo_peripheral_pair(graph, start)
+    x = ls.astype(np.float64)
+    x[ls < 0] = ls.max() + 1
+    return x
+
+
+# --------------------------------------------------------------------------------------------------
+# solvers
+
+
+def _blas_limit(threads):
+    """Context limiting BLAS threads (the small dense products of LOBPCG and the AMG coarse solve
+    lose badly to thread contention on a loaded 2-core machine); a no-op without threadpoolctl."""
+    if threads is None:
+        return nullcontext()
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        return nullcontext()
+    return threadpool_limits(limits=int(threads), user_api="blas")
+
+
 def _fix_sign(x):
+    x = np.asarray(x, dtype=np.float64)
     nz = np.flatnonzero(np.abs(x) > 1e-12 * (np.abs(x).max() or 1.0))
     if nz.size and x[nz[0]] > 0:
         x = -x
     return x / (np.linalg.norm(x) or 1.0)
 
 
-def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = "pattern", seed: int = 0,
-                   tol: float = 1e-5, maxiter: int = 200, k: int = 1, x0=None) -> FiedlerResult:
-    """Fiedler vector of a connected graph (placeholder implementation)."""
-    n = graph.n
-    L = laplacian(graph, weights=weights)
-    if n <= 400:
-        w, V = np.linalg.eigh(L.toarray())
-        return FiedlerResult(_fix_sign(V[:, 1]), float(w[1]), "dense", 0.0, 0,
-                             V[:, 1:1 + k] if k > 1 else None)
+def _rayleigh_ritz(A, V):
+    """Orthonormalize V and return Ritz pairs sorted ascending."""
+    Q, _ = np.linalg.qr(V)
+    H = Q.T @ (A @ Q)
+    w, S = np.linalg.eigh((H + H.T) * 0.5)
+    return w, Q @ S
+
+
+def _project_out(X, y):
+    return X - np.outer(y, y @ X)
+
+
+def _residuals(A, w, V):
+    R = A @ V - V * w[None, :]
+    return np.linalg.norm(R, axis=0)
+
+
+def _solve_dense(A, y, k, **_):
+    n = A.shape[0]
+    M = A.toarray()
+    hi = min(k, n - 1)
+    w, V = sla.eigh(M, subset_by_index=[0, hi], driver="evr")
+    # drop the trivial pair: the column closest to y
+    t = int(np.argmax(np.abs(y @ V)))
+    keep = [i for i in range(V.shape[1]) if i != t][:hi]
+    return w[keep], V[:, keep], 0
+
+
+def _solve_eigsh(A, y, k, *, seed, tol, x0, scale, **_):
+    n = A.shape[0]
     rng = np.random.default_rng(seed)
-    X = rng.standard_normal((n, max(k, 1) + 1))
-    Y = np.ones((n, 1)) / np.sqrt(n)
-    w, V = lobpcg(L, X, Y=Y, tol=tol, maxiter=maxiter, largest=False)
+    v0 = rng.standard_normal(n) if x0 is None else np.asarray(x0, dtype=np.float64).reshape(n, -1)[:, 0].copy()
+    v0 = v0 - y * (y @ v0)
+    if not np.any(v0):
+        v0 = rng.standard_normal(n)
+    sigma = -1e-8 * scale  # A − σI is positive definite: a factorization without pivoting trouble
+    nev = min(k + 1, n - 1)
+    ncv = min(n, max(2 * nev + 1, 20))
+    w, V = eigsh(sp.csc_matrix(A), k=nev, sigma=sigma, which="LM", v0=v0, tol=min(tol, 1e-6) * 1e-2,
+                 ncv=ncv, maxiter=max(1000, n))
     i = np.argsort(w)
     w, V = w[i], V[:, i]
-    r = np.linalg.norm(L @ V[:, 0] - w[0] * V[:, 0])
-    return FiedlerResult(_fix_sign(V[:, 0]), float(w[0]), "lobpcg", float(r), maxiter,
-                         V[:, :k] if k > 1 else None)
+    t = int(np.argmax(np.abs(y @ V)))
+    keep = [j for j in range(V.shape[1]) if j != t][:k]
+    return w[keep], V[:, keep], 0
+
+
+def _amg_preconditioner(L, operator, degrees, scale):
+    """One smoothed-aggregation V-cycle for ``L + εI`` (constant near-nullspace), as an operator
+    approximating the pseudo-inverse of the chosen operator."""
+    import pyamg
+
+    n = L.shape[0]
+    Ls = sp.csr_matrix(L + (1e-8 * scale) * sp.identity(n, format="csr"))
+    ml = pyamg.smoothed_aggregation_solver(Ls, B=np.ones((n, 1)), symmetry="hermitian",
+                                           improve_candidates=None, max_coarse=300)
+    P = ml.aspreconditioner(cycle="V")
+    if operator == "laplacian":
+        return P, ml
+    # N = D^{-1/2} L D^{-1/2}, so N^{-1} = D^{1/2} L^{-1} D^{1/2}
+    s = np.sqrt(degrees)
+
+    def apply(X):
+        X = np.asarray(X)
+        if X.ndim == 1:
+            return s * (P @ (s * X))
+        return s[:, None] * (P @ (s[:, None] * X))
+
+    return LinearOperator((n, n), matvec=apply, matmat=apply, dtype=np.float64), ml
+
+
+def _lobpcg(A, X, M, y, tol, maxiter):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        w, V, hist = lobpcg(A, X, M=M, Y=y[:, None], tol=tol, maxiter=maxiter, largest=False,
+                            retResidualNormsHistory=True)
+    i = np.argsort(w)
+    return w[i], V[:, i], max(len(hist) - 1, 1)
+
+
+def _solve_lobpcg(A, y, k, *, seed, tol, maxiter, x0, amg, operator, degrees, scale, L, block=None,
+                  probe=4, **_):
+    """LOBPCG in two phases: ``probe`` iterations give Ritz values, which set the absolute
+    tolerance ``tol · λ`` for the remaining iterations (LOBPCG itself only knows absolute ones)."""
+    n = A.shape[0]
+    m = block or (k + 2)
+    m = max(1, min(m, (n - 1) // 5))
+    rng = np.random.default_rng(seed)
+    X = rng.standard_normal((n, m))
+    if x0 is not None:
+        X0 = np.asarray(x0, dtype=np.float64).reshape(n, -1)
+        c = min(m, X0.shape[1])
+        X[:, :c] = X0[:, :c]
+    X = _project_out(X, y)
+    M = None
+    setup = 0.0
+    if amg:
+        t0 = time.perf_counter()
+        M, _ = _amg_preconditioner(L, operator, degrees, scale)
+        setup = time.perf_counter() - t0
+    floor = 1e-3 * scale / n
+    # phase 1: a few iterations for Ritz values; then absolute tolerances tol·λ from the current
+    # Ritz values (upper bounds that shrink), restarting from the current block
+    w, V, its = _lobpcg(A, X, M, y, tol * floor, min(probe, maxiter))
+    for _ in range(6):
+        res = _residuals(A, w[:k], V[:, :k])
+        if np.all(res <= tol * np.maximum(np.abs(w[:k]), floor)) or its >= maxiter:
+            break
+        abs_tol = 0.5 * tol * max(float(np.min(np.abs(w[:k]))), floor)
+        w, V, more = _lobpcg(A, V, M, y, abs_tol, maxiter - its)
+        its += more
+    return w[:k], V[:, :k], its, setup
+
+
+def _solve_level(graph, A, y, k, **_):
+    n = graph.n
+    cols = []
+    sources = []
+    x = level_structure_vector(graph)
+    cols.append(x)
+    sources.append(int(np.argmin(x)))
+    dist = np.full(n, np.inf)
+    while len(cols) < k:
+        for s_ in sources[len(sources) - 1:]:
+            dist = np.minimum(dist, _ke.bfs_levels(n, graph.indptr, graph.indices, s_).astype(float))
+        s_new = int(np.argmax(dist))
+        sources.append(s_new)
+        cols.append(_ke.bfs_levels(n, graph.indptr, graph.indices, s_new).astype(float))
+    V = _project_out(np.column_stack(cols), y)
+    Q, _ = np.linalg.qr(V)
+    # keep the first column's direction exactly (the level order), Rayleigh quotients as values
+    w = np.einsum("ij,ij->j", Q, A @ Q)
+    return w, Q, 0
+
+
+def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = "pattern", seed: int = 0,
+                   tol: float = 1e-3, maxiter: int = 200, k: int = 1, x0=None, solver: str = "auto",
+                   dense_max: int = 300, eigsh_max: int = 4000, fallback_eigsh_max: int = 50_000,
+                   fallbacks=("eigsh", "lobpcg", "level-structure"), accept: float = 2.0,
+                   blas_threads: int | None = 1) -> FiedlerResult:
+    """Fiedler vector (and optionally the next eigenvectors) of a connected graph.
+
+    The trivial eigenvector (constant for ``L = D − W``, ``D^{1/2}·1`` for the normalized operator)
+    is deflated. The solver is chosen by size unless ``solver`` names one: dense ``eigh`` up to
+    ``dense_max`` vertices, shift-invert Lanczos (ARPACK) up to ``eigsh_max``, LOBPCG preconditioned
+    by one smoothed-aggregation V-cycle built on ``L + εI`` beyond. An attempt that raises or does
+    not reach the tolerance is recorded in ``info["attempts"]`` and the next strategy of
+    ``fallbacks`` is tried (shift-invert Lanczos if the graph has at most ``fallback_eigsh_max``
+    vertices; LOBPCG again with four times the iterations and a fresh start; the breadth-first level
+    structure, which always succeeds). The function does not raise on a connected graph.
+
+    Parameters
+    ----------
+    graph : Graph
+        Connected (the registry splits components); ``n = 1`` gives path ``"trivial"``.
+    operator : {"laplacian", "normalized"}
+    weights : {"pattern", "values"}
+    seed : int
+        Seed of the random starting block; same input and seed give the same vector.
+    tol : float
+        Relative accuracy for LOBPCG: it stops when the residual ``‖A x_i − λ_i x_i‖`` of each wanted
+        unit vector is below ``tol · max(λ_i, 1e-3·‖A‖/n)``; an attempt ending above ``accept`` times
+        that counts as failed. The default suits ordering (the order of the entries matters, not
+        ten digits).
+    maxiter : int
+        LOBPCG iteration limit (the retry uses four times as many).
+    k : int
+        Number of nontrivial eigenvectors wanted (``vectors`` holds them when ``k > 1``).
+    x0 : ndarray (n,) or (n, j), optional
+        Warm start (e.g. prolonged from a coarser graph) for the iterative solvers.
+    solver : {"auto", "dense", "eigsh", "lobpcg-amg", "lobpcg", "level-structure"}
+    dense_max, eigsh_max, fallback_eigsh_max : int
+        Size thresholds described above.
+    fallbacks : sequence of str
+        Strategies tried, in order, after the first one fails.
+    accept : float
+        Slack of the LOBPCG convergence test (see ``tol``).
+    blas_threads : int or None
+        BLAS threads while solving (needs threadpoolctl; None leaves the setting alone).
+
+    Returns
+    -------
+    FiedlerResult
+
+    References
+    ----------
+    Fiedler (1973); Knyazev (2001), SIAM J. Sci. Comput. (LOBPCG); Vaněk, Mandel & Brezina (1996),
+    Computing (smoothed aggregation); Lehoucq, Sorensen & Yang (1998), ARPACK Users' Guide.
+    """
+    _check(operator, weights)
+    if solver != "auto" and solver not in SOLVERS:
+        raise InputError(f"solver must be 'auto' or one of {', '.join(SOLVERS)}, not {solver!r}")
+    t_start = time.perf_counter()
+    n = graph.n
+    k = max(1, int(k))
+    info = {"operator": operator, "weights": weights, "n": n, "attempts": []}
+    if n <= 1:
+        v = np.zeros(n)
+        info["seconds"] = time.perf_counter() - t_start
+        return FiedlerResult(v, 0.0, "trivial", 0.0, 0, v.reshape(n, 1) if k > 1 else None, info)
+    A, y, scale, deg, L = _operator(graph, operator, weights)
+    kk = min(k, n - 1)
+
+    if solver == "auto":
+        first = "dense" if n <= dense_max else ("eigsh" if n <= eigsh_max else "lobpcg-amg")
+    else:
+        first = solver
+    plan = [first]
+    for f in fallbacks:
+        if f == "eigsh" and n > fallback_eigsh_max:
+            continue
+        if f not in plan or f == "lobpcg":
+            plan.append(f)
+    if "level-structure" not in plan:
+        plan.append("level-structure")
+
+    with _blas_limit(blas_threads):
+        result, retry = _run_plan(graph, A, y, L, deg, scale, plan, kk, info, seed=seed, tol=tol,
+                                  maxiter=maxiter, x0=x0, operator=operator, accept=accept)
+    name, w, V, its, res = result
+    V = np.column_stack([_fix_sign(V[:, j]) for j in range(V.shape[1])])
+    info["values"] = [float(v) for v in w]
+    info["residual_over_lambda"] = float(res[0] / w[0]) if w[0] > 0 else float("inf")
+    info["seconds"] = time.perf_counter() - t_start
+    return FiedlerResult(
+        vector=V[:, 0].copy(), value=float(w[0]), path=name, residual=float(res[0] / scale),
+        iterations=int(its), vectors=V if k > 1 else None, info=info,
+    )
+
+
+def _run_plan(graph, A, y, L, deg, scale, plan, kk, info, *, seed, tol, maxiter, x0, operator, accept):
+    n = graph.n
+    result = None
+    retry = False
+    for name in plan:
+        t0 = time.perf_counter()
+        att = {"solver": name}
+        try:
+            setup = 0.0
+            if name == "dense":
+                w, V, its = _solve_dense(A, y, kk)
+            elif name == "eigsh":
+                w, V, its = _solve_eigsh(A, y, kk, seed=seed, tol=tol, x0=x0, scale=scale)
+            elif name in ("lobpcg", "lobpcg-amg"):
+                mi = maxiter * 4 if retry else maxiter
+                w, V, its, setup = _solve_lobpcg(
+                    A, y, kk, seed=seed + (1 if retry else 0), tol=tol, maxiter=mi,
+                    x0=None if retry else x0, amg=(name == "lobpcg-amg" or retry), operator=operator,
+                    degrees=deg, scale=scale, L=L)
+                if name == "lobpcg" and retry:
+                    att["solver"] = name = "lobpcg-amg"
+                retry = True
+            elif name == "level-structure":
+                w, V, its = _solve_level(graph, A, y, kk)
+            else:
+                raise ValueError(f"unknown solver {name!r}")
+            w = np.asarray(w, dtype=np.float64)
+            V = np.asarray(V, dtype=np.float64)
+            if not (np.all(np.isfinite(w)) and np.all(np.isfinite(V))):
+                raise FloatingPointError("non-finite eigenpairs")
+            res = _residuals(A, w, V)
+            att.update(iterations=int(its), seconds=time.perf_counter() - t0,
+                       residual=float(res[0] / scale), value=float(w[0]))
+            if setup:
+                att["amg_setup_seconds"] = setup
+            ok = True
+            if name in ("lobpcg", "lobpcg-amg"):
+                # accepted if the Ritz residuals are small against the eigenvalues themselves
+                lim = tol * np.maximum(np.abs(w), 1e-3 * scale / n)
+                ok = bool(np.all(res <= lim * accept))
+                if not ok:
+                    att["error"] = f"not converged in {its} iterations (residual {res.max():.2e})"
+            att["ok"] = ok
+            info["attempts"].append(att)
+            if ok:
+                result = (name, w, V, its, res)
+                break
+        except Exception as exc:  # noqa: BLE001 - every failure moves on to the next strategy
+            att.update(ok=False, error=f"{type(exc).__name__}: {exc}"[:200],
+                       seconds=time.perf_counter() - t0)
+            info["attempts"].append(att)
+            if name in ("lobpcg", "lobpcg-amg"):
+                retry = True
+    assert result is not None  # level-structure cannot fail on a graph with n >= 2
+    return result, retry

@@ -1,0 +1,172 @@
+"""Envelope kernels: breadth-first levels, Sloan's priority-queue numbering, profile of an order.
+
+Plain NumPy arrays in and out (``indptr``, ``indices`` of a symmetric graph without diagonal, int64);
+no validation here: :mod:`reorder.spectral` and :mod:`reorder.orderings.envelope` call these.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numba import njit
+
+
+@njit(cache=True)
+def bfs_levels(n, indptr, indices, source):
+    """Breadth-first distances from ``source`` (``-1`` where unreachable)."""
+    level = np.full(n, -1, dtype=np.int64)
+    queue = np.empty(n, dtype=np.int64)
+    level[source] = 0
+    queue[0] = source
+    head = 0
+    tail = 1
+    while head < tail:
+        v = queue[head]
+        head += 1
+        lv = level[v] + 1
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if level[u] < 0:
+                level[u] = lv
+                queue[tail] = u
+                tail += 1
+    return level
+
+
+@njit(cache=True)
+def row_profile(n, indptr, indices, inv):
+    """Profile ``Σ_i (i − min{j ≤ i : a_ij ≠ 0})`` of the matrix reordered by ``inv`` (old → new)."""
+    total = 0
+    for v in range(n):
+        i = inv[v]
+        m = i
+        for p in range(indptr[v], indptr[v + 1]):
+            j = inv[indices[p]]
+            if j < m:
+                m = j
+        total += i - m
+    return total
+
+
+@njit(cache=True)
+def _better(prio, a, b):
+    # True if vertex a should leave the queue before vertex b (higher priority, then smaller index)
+    if prio[a] > prio[b]:
+        return True
+    if prio[a] < prio[b]:
+        return False
+    return a < b
+
+
+@njit(cache=True)
+def _sift_up(heap, pos, prio, k):
+    v = heap[k]
+    while k > 0:
+        parent = (k - 1) >> 1
+        u = heap[parent]
+        if _better(prio, v, u):
+            heap[k] = u
+            pos[u] = k
+            k = parent
+        else:
+            break
+    heap[k] = v
+    pos[v] = k
+
+
+@njit(cache=True)
+def _sift_down(heap, pos, prio, k, size):
+    v = heap[k]
+    while True:
+        c = 2 * k + 1
+        if c >= size:
+            break
+        if c + 1 < size and _better(prio, heap[c + 1], heap[c]):
+            c += 1
+        u = heap[c]
+        if _better(prio, u, v):
+            heap[k] = u
+            pos[u] = k
+            k = c
+        else:
+            break
+    heap[k] = v
+    pos[v] = k
+
+
+@njit(cache=True)
+def sloan(n, indptr, indices, start, gprio, w1, w2):
+    """Sloan's profile-reducing numbering with a global priority ``gprio``.
+
+    The priority of a vertex is ``w2 * gprio[i] − w1 * incr(i)``, where ``incr(i)`` is the growth of
+    the front if ``i`` were numbered next. ``gprio`` is the distance to an end vertex in Sloan's
+    algorithm, or a spectral position in the hybrid of Kumfert & Pothen. Vertices not reached from
+    ``start`` (another component) are started from the one with the largest global priority.
+
+    Returns the numbering ``perm`` (position → vertex).
+    """
+    status = np.zeros(n, dtype=np.int8)  # 0 inactive, 1 preactive, 2 active, 3 numbered
+    prio = np.empty(n, dtype=np.float64)
+    for v in range(n):
+        prio[v] = w2 * gprio[v] - w1 * (indptr[v + 1] - indptr[v] + 1)
+    heap = np.empty(n, dtype=np.int64)
+    pos = np.full(n, -1, dtype=np.int64)
+    perm = np.empty(n, dtype=np.int64)
+    size = 0
+    k = 0
+    nxt = start
+    while k < n:
+        if size == 0:
+            # (re)start: the given start first, later the best unnumbered vertex
+            if status[nxt] != 0:
+                best = -1
+                for v in range(n):
+                    if status[v] == 0 and (best < 0 or gprio[v] > gprio[best]):
+                        best = v
+                nxt = best
+            status[nxt] = 1
+            heap[0] = nxt
+            pos[nxt] = 0
+            size = 1
+        i = heap[0]
+        size -= 1
+        pos[i] = -1
+        if size > 0:
+            heap[0] = heap[size]
+            pos[heap[0]] = 0
+            _sift_down(heap, pos, prio, 0, size)
+        if status[i] == 1:
+            for p in range(indptr[i], indptr[i + 1]):
+                j = indices[p]
+                if status[j] == 3:
+                    continue
+                prio[j] += w1
+                if status[j] == 0:
+                    status[j] = 1
+                    heap[size] = j
+                    size += 1
+                    _sift_up(heap, pos, prio, size - 1)
+                elif pos[j] >= 0:
+                    _sift_up(heap, pos, prio, pos[j])
+        perm[k] = i
+        k += 1
+        status[i] = 3
+        for p in range(indptr[i], indptr[i + 1]):
+            j = indices[p]
+            if status[j] != 1:
+                continue
+            status[j] = 2
+            prio[j] += w1
+            _sift_up(heap, pos, prio, pos[j])
+            for q in range(indptr[j], indptr[j + 1]):
+                m = indices[q]
+                if status[m] == 3:
+                    continue
+                prio[m] += w1
+                if status[m] == 0:
+                    status[m] = 1
+                    heap[size] = m
+                    size += 1
+                    _sift_up(heap, pos, prio, size - 1)
+                elif pos[m] >= 0:
+                    _sift_up(heap, pos, prio, pos[m])
+    return perm
