@@ -1,0 +1,498 @@
+"""Compiled kernels for graph bisection and vertex separators (numba, ``cache=True``).
+
+Plain NumPy arrays in and out; callers in :mod:`reorder.separators` validate. Graphs are CSR
+``(indptr, indices)`` with optional edge weights ``ewgt`` (int64, aligned with ``indices``) and vertex
+weights ``vwgt`` (int64). A vertex partition ``part`` is int8 with 0 / 1 for the two sides and 2 for
+the separator.
+"""
+
+from __future__ import annotations
+
+import heapq
+
+import numpy as np
+from numba import njit
+
+
+@njit(cache=True)
+def induced_subgraph(indptr, indices, vertices, local):
+    """Induced subgraph on ``vertices`` (relabelled 0..m-1 in the given order).
+
+    ``local`` is a scratch array of length n filled with -1; it is restored before returning, so
+    one array serves every call (no O(n) allocation per subproblem). If ``vertices`` is increasing
+    the neighbour lists stay sorted.
+    """
+    m = vertices.size
+    for i in range(m):
+        local[vertices[i]] = i
+    sub_indptr = np.zeros(m + 1, dtype=np.int64)
+    cnt = 0
+    for i in range(m):
+        v = vertices[i]
+        for p in range(indptr[v], indptr[v + 1]):
+            if local[indices[p]] >= 0:
+                cnt += 1
+        sub_indptr[i + 1] = cnt
+    sub_indices = np.empty(cnt, dtype=np.int64)
+    k = 0
+    for i in range(m):
+        v = vertices[i]
+        for p in range(indptr[v], indptr[v + 1]):
+            j = local[indices[p]]
+            if j >= 0:
+                sub_indices[k] = j
+                k += 1
+    for i in range(m):
+        local[vertices[i]] = -1
+    return sub_indptr, sub_indices
+
+
+@njit(cache=True)
+def component_labels(indptr, indices):
+    """Connected components by breadth-first search: ``(count, labels)``, labels in order of the
+    smallest vertex of each component."""
+    n = indptr.size - 1
+    label = np.full(n, -1, dtype=np.int64)
+    queue = np.empty(n, dtype=np.int64)
+    nc = 0
+    for s in range(n):
+        if label[s] != -1:
+            continue
+        label[s] = nc
+        head = 0
+        tail = 1
+        queue[0] = s
+        while head < tail:
+            v = queue[head]
+            head += 1
+            for p in range(indptr[v], indptr[v + 1]):
+                u = indices[p]
+                if label[u] == -1:
+                    label[u] = nc
+                    queue[tail] = u
+                    tail += 1
+        nc += 1
+    return nc, label
+
+
+@njit(cache=True)
+def bfs_levels(indptr, indices, start):
+    """Breadth-first distance from ``start`` (-1 where unreachable)."""
+    n = indptr.size - 1
+    dist = np.full(n, -1, dtype=np.int64)
+    queue = np.empty(n, dtype=np.int64)
+    dist[start] = 0
+    queue[0] = start
+    head = 0
+    tail = 1
+    while head < tail:
+        v = queue[head]
+        head += 1
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if dist[u] == -1:
+                dist[u] = dist[v] + 1
+                queue[tail] = u
+                tail += 1
+    return dist
+
+
+@njit(cache=True)
+def heavy_edge_matching(indptr, indices, ewgt, vwgt, visit, maxvwgt):
+    """Heavy-edge matching: visit vertices in ``visit`` order and match each unmatched vertex with
+    the unmatched neighbour joined by the heaviest edge (ties: lighter neighbour, then lower index),
+    subject to the coarse vertex weight staying at most ``maxvwgt``.
+
+    Returns ``(nc, cmap, match)``: number of coarse vertices, fine → coarse map (coarse vertices
+    numbered in visiting order) and the mate of each vertex (itself if unmatched).
+    """
+    n = indptr.size - 1
+    match = np.full(n, -1, dtype=np.int64)
+    cmap = np.empty(n, dtype=np.int64)
+    nc = 0
+    for t in range(n):
+        v = visit[t]
+        if match[v] != -1:
+            continue
+        best = -1
+        bw = -1
+        bvw = 0
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if match[u] != -1 or u == v:
+                continue
+            if vwgt[u] + vwgt[v] > maxvwgt:
+                continue
+            w = ewgt[p]
+            if w > bw or (w == bw and (vwgt[u] < bvw or (vwgt[u] == bvw and u < best))):
+                best = u
+                bw = w
+                bvw = vwgt[u]
+        if best == -1:
+            match[v] = v
+            cmap[v] = nc
+        else:
+            match[v] = best
+            match[best] = v
+            cmap[v] = nc
+            cmap[best] = nc
+        nc += 1
+    return nc, cmap, match
+
+
+@njit(cache=True)
+def contract(indptr, indices, ewgt, vwgt, cmap, match, nc):
+    """Coarse graph of a matching: vertex weights and parallel edge weights are summed."""
+    n = indptr.size - 1
+    rep = np.full(nc, -1, dtype=np.int64)
+    for v in range(n):
+        c = cmap[v]
+        if rep[c] == -1:
+            rep[c] = v
+    nnz = indptr[n]
+    cindptr = np.zeros(nc + 1, dtype=np.int64)
+    cind = np.empty(nnz, dtype=np.int64)
+    cw = np.empty(nnz, dtype=np.int64)
+    cvw = np.zeros(nc, dtype=np.int64)
+    marker = np.full(nc, -1, dtype=np.int64)
+    k = 0
+    for c in range(nc):
+        start = k
+        v = rep[c]
+        for t in range(2):
+            if t == 0:
+                u = v
+            else:
+                u = match[v]
+                if u == v:
+                    break
+            cvw[c] += vwgt[u]
+            for p in range(indptr[u], indptr[u + 1]):
+                cu = cmap[indices[p]]
+                if cu == c:
+                    continue
+                if marker[cu] < start:
+                    marker[cu] = k
+                    cind[k] = cu
+                    cw[k] = ewgt[p]
+                    k += 1
+                else:
+                    cw[marker[cu]] += ewgt[p]
+        cindptr[c + 1] = k
+    return cindptr, cind[:k].copy(), cw[:k].copy(), cvw
+
+
+@njit(cache=True)
+def sweep_cuts(indptr, indices, ewgt, order):
+    """Edge-cut weight of every prefix split of ``order``: ``cut[k]`` is the weight of the edges
+    between ``order[:k]`` and ``order[k:]``, for k = 0..n (O(|E|))."""
+    n = indptr.size - 1
+    rank = np.empty(n, dtype=np.int64)
+    for i in range(n):
+        rank[order[i]] = i
+    diff = np.zeros(n + 2, dtype=np.int64)
+    for v in range(n):
+        rv = rank[v]
+        for p in range(indptr[v], indptr[v + 1]):
+            ru = rank[indices[p]]
+            if rv < ru:
+                diff[rv + 1] += ewgt[p]
+                diff[ru + 1] -= ewgt[p]
+    cut = np.empty(n + 1, dtype=np.int64)
+    s = 0
+    for k in range(n + 1):
+        s += diff[k]
+        cut[k] = s
+    return cut
+
+
+@njit(cache=True)
+def cut_bipartite(indptr, indices, part):
+    """The bipartite graph of cut edges between side 0 (rows) and side 1 (columns).
+
+    Returns ``(rows, cols, bi_indptr, bi_indices)``: boundary vertices of each side and the CSR
+    of the row → column adjacency in local numbering.
+    """
+    n = indptr.size - 1
+    loc = np.full(n, -1, dtype=np.int64)
+    nr = 0
+    ncl = 0
+    for v in range(n):
+        if part[v] > 1:
+            continue
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if part[u] <= 1 and part[u] != part[v]:
+                if part[v] == 0:
+                    loc[v] = nr
+                    nr += 1
+                else:
+                    loc[v] = ncl
+                    ncl += 1
+                break
+    rows = np.empty(nr, dtype=np.int64)
+    cols = np.empty(ncl, dtype=np.int64)
+    for v in range(n):
+        if loc[v] >= 0:
+            if part[v] == 0:
+                rows[loc[v]] = v
+            else:
+                cols[loc[v]] = v
+    bptr = np.zeros(nr + 1, dtype=np.int64)
+    cnt = 0
+    for i in range(nr):
+        v = rows[i]
+        for p in range(indptr[v], indptr[v + 1]):
+            if part[indices[p]] == 1:
+                cnt += 1
+        bptr[i + 1] = cnt
+    bind = np.empty(cnt, dtype=np.int64)
+    k = 0
+    for i in range(nr):
+        v = rows[i]
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if part[u] == 1:
+                bind[k] = loc[u]
+                k += 1
+    return rows, cols, bptr, bind
+
+
+@njit(cache=True)
+def konig_cover(bptr, bind, row_match, ncols):
+    """Minimum vertex cover of a bipartite graph from a maximum matching (König's theorem).
+
+    ``row_match[i]`` is the column matched to row i or -1. Alternating breadth-first search from
+    the unmatched rows marks the set Z; the cover is (rows not in Z) ∪ (columns in Z).
+    Returns boolean masks ``(row_in_cover, col_in_cover)``.
+    """
+    nr = bptr.size - 1
+    col_match = np.full(ncols, -1, dtype=np.int64)
+    for i in range(nr):
+        if row_match[i] >= 0:
+            col_match[row_match[i]] = i
+    zr = np.zeros(nr, dtype=np.bool_)
+    zc = np.zeros(ncols, dtype=np.bool_)
+    queue = np.empty(nr, dtype=np.int64)
+    tail = 0
+    for i in range(nr):
+        if row_match[i] < 0:
+            zr[i] = True
+            queue[tail] = i
+            tail += 1
+    head = 0
+    while head < tail:
+        i = queue[head]
+        head += 1
+        for p in range(bptr[i], bptr[i + 1]):
+            j = bind[p]
+            if zc[j]:
+                continue
+            zc[j] = True
+            r = col_match[j]
+            if r >= 0 and not zr[r]:
+                zr[r] = True
+                queue[tail] = r
+                tail += 1
+    return ~zr, zc
+
+
+@njit(cache=True)
+def _viol(w0, w1, maxside):
+    m = max(w0, w1)
+    return m - maxside if m > maxside else 0
+
+
+@njit(cache=True)
+def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
+    """Fiduccia–Mattheyses refinement of a vertex separator, in place.
+
+    A move takes a separator vertex ``v`` to side ``s``; its neighbours on the other side join the
+    separator. Gain = weight(v) − weight of those neighbours. Each pass moves unlocked separator
+    vertices by best gain (lazy binary heaps), never letting a side exceed ``maxside``, stops after
+    ``limit`` moves without improvement and rolls back to the best state seen, compared by
+    (balance violation, separator weight, |w0 − w1|). Passes repeat while they improve.
+
+    Returns the side weights ``[w0, w1, w_sep]``.
+    """
+    n = indptr.size - 1
+    w = np.zeros(3, dtype=np.int64)
+    for v in range(n):
+        w[part[v]] += vwgt[v]
+    gain = np.zeros((2, n), dtype=np.int64)
+    lock = np.full(n, -1, dtype=np.int64)
+    moves = np.empty(n, dtype=np.int64)
+    mstart = np.empty(n + 1, dtype=np.int64)
+    pulled = np.empty(indptr[n] + 1, dtype=np.int64)
+    for it in range(passes):
+        h0 = [(np.int64(0), np.int64(0))]
+        h1 = [(np.int64(0), np.int64(0))]
+        h0.pop()
+        h1.pop()
+        for v in range(n):
+            if part[v] != 2:
+                continue
+            g0 = vwgt[v]
+            g1 = vwgt[v]
+            for p in range(indptr[v], indptr[v + 1]):
+                u = indices[p]
+                if part[u] == 1:
+                    g0 -= vwgt[u]
+                elif part[u] == 0:
+                    g1 -= vwgt[u]
+            gain[0, v] = g0
+            gain[1, v] = g1
+            h0.append((-g0, v))
+            h1.append((-g1, v))
+        heapq.heapify(h0)
+        heapq.heapify(h1)
+        best_viol = _viol(w[0], w[1], maxside)
+        best_sep = w[2]
+        best_imb = abs(w[0] - w[1])
+        best_k = 0
+        nm = 0
+        npl = 0
+        since = 0
+        while True:
+            # discard stale heap tops
+            while len(h0) > 0:
+                g, v = h0[0]
+                if part[v] != 2 or lock[v] == it or -g != gain[0, v]:
+                    heapq.heappop(h0)
+                else:
+                    break
+            while len(h1) > 0:
+                g, v = h1[0]
+                if part[v] != 2 or lock[v] == it or -g != gain[1, v]:
+                    heapq.heappop(h1)
+                else:
+                    break
+            ok0 = False
+            ok1 = False
+            v0 = -1
+            v1 = -1
+            g0 = 0
+            g1 = 0
+            if len(h0) > 0:
+                v0 = h0[0][1]
+                g0 = gain[0, v0]
+                ok0 = w[0] + vwgt[v0] <= maxside
+            if len(h1) > 0:
+                v1 = h1[0][1]
+                g1 = gain[1, v1]
+                ok1 = w[1] + vwgt[v1] <= maxside
+            if not ok0 and not ok1:
+                break
+            if ok0 and ok1:
+                if g0 > g1 or (g0 == g1 and w[0] <= w[1]):
+                    to = 0
+                else:
+                    to = 1
+            elif ok0:
+                to = 0
+            else:
+                to = 1
+            if to == 0:
+                v = v0
+                heapq.heappop(h0)
+            else:
+                v = v1
+                heapq.heappop(h1)
+            other = 1 - to
+            part[v] = to
+            w[2] -= vwgt[v]
+            w[to] += vwgt[v]
+            lock[v] = it
+            moves[nm] = v
+            mstart[nm] = npl
+            # separator neighbours of v: moving them to `other` would now pull v
+            for p in range(indptr[v], indptr[v + 1]):
+                x = indices[p]
+                if part[x] == 2:
+                    gain[other, x] -= vwgt[v]
+            first = npl
+            for p in range(indptr[v], indptr[v + 1]):
+                u = indices[p]
+                if part[u] == other:
+                    part[u] = 2
+                    w[other] -= vwgt[u]
+                    w[2] += vwgt[u]
+                    pulled[npl] = u
+                    npl += 1
+            for q in range(first, npl):
+                u = pulled[q]
+                for p in range(indptr[u], indptr[u + 1]):
+                    x = indices[p]
+                    if part[x] == 2:
+                        gain[to, x] += vwgt[u]
+            for q in range(first, npl):
+                u = pulled[q]
+                a = vwgt[u]
+                b = vwgt[u]
+                for p in range(indptr[u], indptr[u + 1]):
+                    x = indices[p]
+                    if part[x] == 1:
+                        a -= vwgt[x]
+                    elif part[x] == 0:
+                        b -= vwgt[x]
+                gain[0, u] = a
+                gain[1, u] = b
+            # push changed entries
+            for p in range(indptr[v], indptr[v + 1]):
+                x = indices[p]
+                if part[x] == 2 and lock[x] != it:
+                    heapq.heappush(h0, (-gain[0, x], x))
+                    heapq.heappush(h1, (-gain[1, x], x))
+            for q in range(first, npl):
+                u = pulled[q]
+                for p in range(indptr[u], indptr[u + 1]):
+                    x = indices[p]
+                    if part[x] == 2 and lock[x] != it:
+                        if to == 0:
+                            heapq.heappush(h0, (-gain[0, x], x))
+                        else:
+                            heapq.heappush(h1, (-gain[1, x], x))
+            nm += 1
+            mstart[nm] = npl
+            vi = _viol(w[0], w[1], maxside)
+            imb = abs(w[0] - w[1])
+            if vi < best_viol or (vi == best_viol and (w[2] < best_sep or (w[2] == best_sep and imb < best_imb))):
+                best_viol = vi
+                best_sep = w[2]
+                best_imb = imb
+                best_k = nm
+                since = 0
+            else:
+                since += 1
+                if since > limit:
+                    break
+        # roll back to the best state
+        for i in range(nm - 1, best_k - 1, -1):
+            v = moves[i]
+            to = part[v]
+            other = 1 - to
+            for q in range(mstart[i], mstart[i + 1]):
+                u = pulled[q]
+                part[u] = other
+                w[2] -= vwgt[u]
+                w[other] += vwgt[u]
+            part[v] = 2
+            w[to] -= vwgt[v]
+            w[2] += vwgt[v]
+        if best_k == 0:
+            break
+    return w
+
+
+@njit(cache=True)
+def edges_cross(indptr, indices, part):
+    """Number of edges joining side 0 and side 1 directly (0 for a valid separator)."""
+    n = indptr.size - 1
+    bad = 0
+    for v in range(n):
+        if part[v] != 0:
+            continue
+        for p in range(indptr[v], indptr[v + 1]):
+            if part[indices[p]] == 1:
+                bad += 1
+    return bad

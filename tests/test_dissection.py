@@ -1,0 +1,165 @@
+"""Tests of nested dissection, recursive spectral bisection and the separator tree.
+
+Outside references: George (1973) ideal nested dissection counts (quoted from memory), SciPy's RCM,
+NumPy dense Cholesky (fill check on a small case), SciPy connected_components (separators separate),
+scikit-learn's adjusted Rand index (planted partition).
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components, reverse_cuthill_mckee
+
+from reorder.analysis import symbolic_factor
+from reorder.graph import Graph, from_edges, from_matrix
+from reorder.orderings import order
+from reorder.orderings.dissection import tree_summary, validate_tree
+
+from conftest import grid2d, grid3d, m_matrix
+
+
+@pytest.mark.parametrize("k", [31, 63])
+def test_grid_below_ideal_nested_dissection(k):
+    """George (1973), SIAM J. Numer. Anal. 10, quoted from memory: ideal nested dissection of a k x k
+    grid gives nnz(L) ~ 31/4 k^2 log2 k and ~ 829/84 k^3 multiplications. We test
+    nnz(L) (diagonal included) <= 31/4 k^2 log2 k and  sum_j (c_j - 1)(c_j + 2)/2 <= 829/84 k^3
+    (the multiplication count of column Cholesky, George & Liu 1981), and nnz(L) <= 0.6 x RCM's."""
+    G = from_matrix(grid2d(k))
+    o = order(G, "nd")
+    s = symbolic_factor(G, o.perm)
+    c = s.colcounts.astype(np.int64)
+    mult = int(((c - 1) * (c + 2) // 2).sum())
+    assert s.nnz_factor <= 31 / 4 * k * k * np.log2(k)
+    assert mult <= 829 / 84 * k**3
+    rcm = reverse_cuthill_mckee(G.to_csr(), symmetric_mode=True)  # SciPy baseline
+    assert s.nnz_factor <= 0.6 * symbolic_factor(G, rcm).nnz_factor
+    # the top separator of a k x k grid is about one grid line (George 1973)
+    assert k <= o.info["top_separator"] <= 1.2 * k
+    validate_tree(o.info["separator_tree"], o.perm, G)
+
+
+def test_fill_matches_dense_cholesky():
+    # NumPy dense Cholesky of the permuted M-matrix: structural nonzeros = our nnz(L)
+    A = m_matrix(grid2d(12))
+    G = from_matrix(A)
+    o = order(G, "nd", leaf_size=8)
+    L = np.linalg.cholesky(A.toarray()[np.ix_(o.perm, o.perm)])
+    assert np.count_nonzero(np.abs(L) > 1e-13) == symbolic_factor(G, o.perm).nnz_factor
+
+
+def test_tree_separators_separate_and_balance():
+    G = from_matrix(grid3d(14))
+    o = order(G, "nd", leaf_size=40, balance=0.4)
+    tree = o.info["separator_tree"]
+    assert validate_tree(tree, o.perm, G)
+    A = G.to_csr()
+    for nd in tree["nodes"]:
+        if nd["kind"] != "separator":
+            continue
+        a, b = nd["sizes"]
+        total = a + b + nd["separator"]
+        assert max(a, b) <= np.floor(0.6 * total)  # balance window of each bisection
+        # removing the separator disconnects the two sides (SciPy connected_components)
+        s0 = o.perm[nd["start"]:nd["start"] + a]
+        s1 = o.perm[nd["start"] + a:nd["start"] + a + b]
+        both = np.concatenate((s0, s1))
+        _, lab = connected_components(A[both][:, both], directed=False)
+        assert not (set(lab[:a]) & set(lab[a:]))
+
+
+def test_tree_json_round_trip(tmp_path):
+    G = from_matrix(grid2d(25))
+    o = order(G, "nd", leaf_size=30)
+    f = tmp_path / "tree.json"
+    f.write_text(json.dumps(o.info["separator_tree"]))
+    tree = json.loads(f.read_text())
+    assert tree == o.info["separator_tree"]
+    assert validate_tree(tree, o.perm, G)
+    summ = tree_summary(tree, levels=3)
+    assert summ[0]["separators"] == 1 and summ[1]["separators"] == 2
+    assert summ[0]["sizes"][0] == o.info["top_separator"]
+    # a corrupted tree is rejected
+    bad = json.loads(json.dumps(tree))
+    bad["nodes"][0]["separator"] += 1
+    with pytest.raises(ValueError):
+        validate_tree(bad, o.perm, G)
+
+
+def test_disconnected_graph():
+    A = sp.block_diag([grid2d(15), grid2d(10), sp.csr_matrix((1, 1)), grid3d(6)]).tocsr()
+    G = from_matrix(A)
+    o = order(G, "nd", leaf_size=20)
+    assert np.array_equal(np.sort(o.perm), np.arange(G.n))
+    assert validate_tree(o.info["separator_tree"], o.perm, G)
+    assert o.info["separator_tree"]["nodes"][0]["kind"] == "components"
+
+
+@pytest.mark.parametrize("n", [0, 1, 2, 3, 5])
+def test_tiny_graphs(n):
+    G = from_edges(n, np.arange(max(n - 1, 0)), np.arange(1, n))
+    for method in ("nd", "rsb", "auto"):
+        o = order(G, method)
+        assert np.array_equal(np.sort(o.perm), np.arange(n))
+
+
+def test_complete_graph():
+    # no separator exists in a clique; the ordering is still a valid permutation with full fill
+    n = 300
+    r, c = np.triu_indices(n, 1)
+    G = from_edges(n, r, c)
+    o = order(G, "nd", leaf_size=50)
+    assert np.array_equal(np.sort(o.perm), np.arange(n))
+    assert symbolic_factor(G, o.perm).nnz_factor == n * (n + 1) // 2
+    validate_tree(o.info["separator_tree"], o.perm, G)
+
+
+def test_star_graph():
+    # star: the centre is the only useful separator; eliminating it last gives no fill (elementary)
+    n = 2000
+    G = from_edges(n, np.zeros(n - 1, dtype=int), np.arange(1, n))
+    o = order(G, "nd", leaf_size=50)
+    assert symbolic_factor(G, o.perm).nnz_factor == 2 * n - 1
+    validate_tree(o.info["separator_tree"], o.perm, G)
+
+
+def test_plain_variant_and_determinism():
+    G = from_matrix(grid2d(40))
+    a = order(G, "nd", seed=3)
+    b = order(G, "nd", seed=3)
+    assert np.array_equal(a.perm, b.perm)
+    plain = order(G, "nd", multilevel=False, refine=False, split="median")
+    validate_tree(plain.info["separator_tree"], plain.perm, G)
+
+
+def test_rsb_planted_partition():
+    # two dense blocks joined by few edges; rsb with 2 parts recovers them
+    # (adjusted Rand index from scikit-learn as the outside check)
+    metrics = pytest.importorskip("sklearn.metrics")
+    rng = np.random.default_rng(0)
+    n = 400
+    truth = (np.arange(n) >= n // 2).astype(int)
+    rng.shuffle(truth)
+    r = rng.integers(0, n, 12000)
+    c = rng.integers(0, n, 12000)
+    same = truth[r] == truth[c]
+    keep = same | (rng.random(r.size) < 0.02)
+    G = from_edges(n, r[keep], c[keep])
+    o = order(G, "rsb", parts=2)
+    labels = o.info["labels"]
+    assert metrics.adjusted_rand_score(truth, labels) >= 0.95
+
+
+def test_rsb_blocks_are_contiguous():
+    G = from_matrix(grid2d(32))
+    o = order(G, "rsb", parts=8)
+    lab = np.asarray(o.info["labels"])
+    assert lab.shape == (G.n,)
+    assert np.all(np.diff(lab[o.perm]) >= 0)  # parts ordered one after another
+    sizes = np.bincount(lab)
+    assert sizes.size == 8 and sizes.max() - sizes.min() <= 2  # median splits: balanced
+    o3 = order(G, "rsb", parts=3)
+    assert np.bincount(np.asarray(o3.info["labels"])).size == 3
