@@ -329,8 +329,16 @@ def _amg_preconditioner(L, operator, degrees, scale):
 
     n = L.shape[0]
     Ls = sp.csr_matrix(L + (1e-8 * scale) * sp.identity(n, format="csr"))
-    ml = pyamg.smoothed_aggregation_solver(Ls, B=np.ones((n, 1)), symmetry="hermitian",
-                                           improve_candidates=None, max_coarse=300)
+    # pyamg estimates spectral radii from NumPy's global random generator; seed it for the set-up
+    # (determinism) and restore the caller's state afterwards
+    state = np.random.get_state()
+    try:
+        np.random.seed(0)
+        ml = pyamg.smoothed_aggregation_solver(
+            Ls, B=np.ones((n, 1)), symmetry="hermitian", improve_candidates=None, max_coarse=300,
+            smooth=("jacobi", {"omega": 4.0 / 3.0, "weighting": "local"}))
+    finally:
+        np.random.set_state(state)
     P = ml.aspreconditioner(cycle="V")
     if operator == "laplacian":
         return P, ml
