@@ -480,16 +480,16 @@ def _run_processes(cases, workers: int, on_result):
     from concurrent.futures.process import BrokenProcessPool
 
     ctx = _mp_context()
-    unfinished: list[Case] = []
+    unfinished: list = []
     ex = ProcessPoolExecutor(max_workers=workers, mp_context=ctx)
     try:
-        futs = {ex.submit(run_case, c): c for c in cases}
+        futs = {ex.submit(run_case, c): (i, c) for i, c in enumerate(cases)}
         for f in as_completed(futs):
-            c = futs[f]
+            i, c = futs[f]
             try:
                 rec = f.result()
             except BrokenProcessPool:
-                unfinished.append(c)
+                unfinished.append((i, c))
                 continue
             except Exception as exc:
                 rec = _error_record(c, _one_line(exc))
@@ -498,8 +498,7 @@ def _run_processes(cases, workers: int, on_result):
         ex.shutdown(wait=False, cancel_futures=True)
         raise
     ex.shutdown(wait=True)
-    order_ = {c.key: i for i, c in enumerate(cases)}
-    unfinished.sort(key=lambda c: order_[c.key])
+    unfinished = [c for _, c in sorted(unfinished, key=lambda t: t[0])]
     single = None
     try:
         for c in unfinished:
