@@ -532,10 +532,13 @@ def _run_dask(cases, cluster, on_result):
     """Cases as tasks on a Dask ``distributed`` scheduler (an address, a Client or a Cluster)."""
     import distributed
 
+    import uuid
+
     client, own = _dask_client(cluster)
     futs = []
+    run_id = uuid.uuid4().hex[:12]  # task keys unique to this run, so two runs never share results
     try:
-        futs = [client.submit(run_case, c, pure=False, key=f"reorder-case-{i}-{abs(hash(c.key)):x}")
+        futs = [client.submit(run_case, c, pure=False, key=f"reorder-case-{run_id}-{i}")
                 for i, c in enumerate(cases)]
         which = {f.key: c for f, c in zip(futs, cases)}
         for f in distributed.as_completed(futs):
@@ -558,6 +561,9 @@ def _run_dask(cases, cluster, on_result):
 # --------------------------------------------------------------------------------------------------
 # the runner
 # --------------------------------------------------------------------------------------------------
+_EXPLANATIONS = ("order_peak_mb:", "order_seconds and")
+
+
 @dataclass
 class CompareResult:
     """What :func:`run_compare` did.
@@ -595,18 +601,22 @@ class CompareResult:
         """Rich table of nnz(L) per matrix and method, best marked."""
         return _report.results_table(self.rows)
 
-    def __rich__(self):
-        from rich.console import Group
+    def __rich_console__(self, console, options):
         from rich.text import Text
 
-        lines = [self.table()]
+        if _report.table_width(self.rows) <= options.max_width:
+            yield self.table()
+        else:  # too narrow for one column per method: the best per matrix; the full grid is in the report
+            yield _report.best_table(self.rows)
+            yield Text(f"(the full table of every ordering is in {self.paths.get('summary', 'summary.md')} and "
+                       "the report; widen the terminal to see it here)", style="dim")
         for n in self.notes:
-            lines.append(Text(f"note: {n}", style="yellow"))
-        lines.append(Text(
+            if not n.startswith(_EXPLANATIONS):  # those are for the report; the terminal shows the news
+                yield Text(f"note: {n}", style="yellow")
+        yield Text(
             f"{len(self.rows)} cases ({self.ran} run, {self.reused} from the log, {self.failed} failed) "
             f"in {self.seconds:.1f} s; results in {self.out}; report: {self.report}"
-        ))
-        return Group(*lines)
+        )
 
     def __str__(self) -> str:
         return (f"{len(self.rows)} cases ({self.ran} run, {self.reused} from the log, {self.failed} failed); "

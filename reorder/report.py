@@ -238,7 +238,7 @@ def results_table(rows, *, key: str = "nnz_factor", title: str | None = None):
     matrices, methods = _matrices(rows), _methods(rows)
     best = best_methods(rows, key)
     idx = {(r["matrix"], r["method"]): r for r in rows}
-    table = Table(title=title or f"{_LABELS.get(key, key)} per matrix and ordering (★ = best)")
+    table = Table(title=title or f"{_LABELS.get(key, key)} (★ = best)")
     table.add_column("matrix", style="bold", overflow="fold")
     table.add_column("n", justify="right")
     for s in methods:
@@ -257,6 +257,42 @@ def results_table(rows, *, key: str = "nnz_factor", title: str | None = None):
             else:
                 cells.append(_compact(r.get(key)))
         table.add_row(m, _compact(n), *cells)
+    return table
+
+
+def table_width(rows) -> int:
+    """Characters the full :func:`results_table` needs (to choose :func:`best_table` when narrower)."""
+    names = max((len(r["matrix"]) for r in rows), default=6)
+    return names + 4 + 8 + sum(max(len(s), 7) + 3 for s in _methods(rows)) + 1
+
+
+def best_table(rows, *, key: str = "nnz_factor", baseline: str = "rcm"):
+    """A narrow Rich table: per matrix the best method(s) by ``row[key]``, its value and its ratio to
+    the baseline method (when that ran)."""
+    from rich.table import Table
+
+    best = best_methods(rows, key)
+    idx = {(r["matrix"], r["method"]): r for r in rows}
+    has_base = baseline in _methods(rows)
+    table = Table(title=f"best ordering per matrix by {_LABELS.get(key, key)}")
+    table.add_column("matrix", style="bold", overflow="fold")
+    table.add_column("n", justify="right")
+    table.add_column("★ best", style="bold green", overflow="fold")
+    table.add_column(_LABELS.get(key, key), justify="right")
+    if has_base:
+        table.add_column(f"vs {baseline}", justify="right")
+    for m in _matrices(rows):
+        n = next((r.get("n") for (mm, _), r in idx.items() if mm == m and r.get("n") is not None), None)
+        b = best.get(m)
+        if not b:
+            table.add_row(m, _compact(n), "[red]all failed[/red]", "–", *(["–"] if has_base else []))
+            continue
+        v = idx[(m, b[0])][key]
+        cells = [m, _compact(n), ", ".join(b), _compact(v)]
+        if has_base:
+            r = idx.get((m, baseline))
+            cells.append(f"{v / r[key]:.2f}" if r is not None and _ok(r) and r.get(key) else "–")
+        table.add_row(*cells)
     return table
 
 
