@@ -810,11 +810,13 @@ def run_compare(
                 _run_serial(todo, on_result)
     except KeyboardInterrupt:
         log.close()
+        _CACHE.clear()
         if console is not None:
             console.print(f"interrupted: {counter['k']} of {len(cases)} cases are saved in {log_path}; "
                           "run again with --resume to finish", markup=False, highlight=False)
         raise
     log.close()
+    _CACHE.clear()  # do not hold the last matrix after the run
 
     rows = []
     for c in cases:

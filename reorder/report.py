@@ -26,6 +26,7 @@ __all__ = [
     "performance_ratios",
     "performance_profile",
     "profile_breakpoints",
+    "profile_problems",
     "metric_table",
     "best_methods",
     "results_table",
@@ -519,7 +520,8 @@ def plot_spy(stem, name: str, matrix, perms: dict, *, bins: int = 200) -> list[P
 
 
 def plot_relative(stem, rows, key: str = "nnz_factor", baseline: str = "rcm") -> list[Path]:
-    """Grouped bars of ``row[key]`` divided by the baseline method's value, per matrix (log axis)."""
+    """``row[key]`` divided by the baseline method's value: one line per matrix, one marker per method
+    (log axis), so that the figure grows with the suite only in height."""
     matrices, methods = _matrices(rows), _methods(rows)
     if baseline not in methods:
         baseline = methods[0]
@@ -527,29 +529,43 @@ def plot_relative(stem, rows, key: str = "nnz_factor", baseline: str = "rcm") ->
     base = vals[:, methods.index(baseline)][:, None]
     with np.errstate(divide="ignore", invalid="ignore"):
         rel = vals / base
-    k = len(methods)
-    width = 0.8 / max(k, 1)
-    fig = _figure((max(6.0, 0.5 + 0.22 * k * len(matrices) + 1.5), 4.0))
+    fig = _figure((8.0, 1.3 + 0.26 * len(matrices)))
     ax = fig.subplots()
-    x = np.arange(len(matrices))
+    y = np.arange(len(matrices))
+    markers = "os^Dv<>pXh*"
     for j, s in enumerate(methods):
-        y = rel[:, j]
-        good = np.isfinite(y) & (y > 0)
-        ax.bar(x[good] + (j - (k - 1) / 2) * width, y[good], width, label=s)
-    ax.axhline(1.0, color="k", lw=0.8)
-    ax.set_yscale("log")
-    ax.set_xticks(x)
-    ax.set_xticklabels(matrices, rotation=45 if len(matrices) > 4 else 0, ha="right" if len(matrices) > 4 else "center", fontsize=8)
-    ax.set_ylabel(f"{_LABELS.get(key, key)} / {baseline}")
-    ax.set_title(f"{_LABELS.get(key, key)} relative to {baseline} (below 1 is better)")
-    ax.legend(fontsize=7, ncol=min(k, 4))
-    fig.tight_layout()
+        good = np.isfinite(rel[:, j]) & (rel[:, j] > 0)
+        ax.plot(rel[good, j], y[good], markers[j % len(markers)], ms=5, alpha=0.85, label=s, ls="none")
+    ax.axvline(1.0, color="k", lw=0.8)
+    ax.set_xscale("log")
+    ax.set_yticks(y)
+    ax.set_yticklabels(matrices, fontsize=7)
+    ax.set_ylim(len(matrices) - 0.5, -0.5)
+    ax.grid(axis="x", alpha=0.3)
+    ax.set_xlabel(f"{_LABELS.get(key, key)} / {_LABELS.get(key, key)} of {baseline} (left of 1 is better)")
+    ax.set_title(f"{_LABELS.get(key, key)} relative to {baseline}", fontsize=10)
+    ax.legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0)
+    fig.subplots_adjust(left=0.3, right=0.82, top=1 - 0.45 / (1.3 + 0.26 * len(matrices)),
+                        bottom=0.55 / (1.3 + 0.26 * len(matrices)))
     return _save(fig, Path(stem))
 
 
+def profile_problems(rows) -> list[str]:
+    """The matrices on which every method has a row (ran, successfully or not): the problem set of a
+    performance profile, so that a case left out on purpose does not count as a failure."""
+    methods = _methods(rows)
+    ran = {(r["matrix"], r["method"]) for r in rows}
+    return [m for m in _matrices(rows) if all((m, s) in ran for s in methods)]
+
+
 def plot_profiles(stem, rows, keys=("nnz_factor", "factor_ops", "order_seconds")) -> list[Path]:
-    """Dolan–Moré performance profiles, one panel per measure (log2 τ axis)."""
-    matrices, methods = _matrices(rows), _methods(rows)
+    """Dolan–Moré performance profiles, one panel per measure (log2 τ axis).
+
+    The problems are the matrices on which every method was run (a case left out on purpose is not a
+    failure); a case that ran and failed counts as not solved.
+    """
+    every, methods = _matrices(rows), _methods(rows)
+    matrices = profile_problems(rows)
     fig = _figure((4.2 * len(keys), 3.6))
     axes = fig.subplots(1, len(keys), squeeze=False)
     for ax, key in zip(axes[0], keys):
@@ -570,7 +586,8 @@ def plot_profiles(stem, rows, keys=("nnz_factor", "factor_ops", "order_seconds")
         ax.set_title(_LABELS.get(key, key), fontsize=10)
         ax.grid(alpha=0.3)
     axes[0][0].legend(fontsize=7, loc="lower right")
-    fig.suptitle("Performance profiles (Dolan & Moré 2002)", fontsize=10)
+    scope = "" if len(matrices) == len(every) else f", over the {len(matrices)} of {len(every)} matrices every ordering ran on"
+    fig.suptitle(f"Performance profiles (Dolan & Moré 2002){scope}", fontsize=10)
     fig.tight_layout()
     return _save(fig, Path(stem))
 
@@ -737,11 +754,6 @@ def write_report(out, rows, *, matrices: dict | None = None, perm_dir=None, note
     notes = list(notes)
     paths: dict = {"csv": write_csv(out / "results.csv", rows),
                    "json": write_json(out / "results.json", rows, {**(meta or {}), "notes": notes})}
-    summary = summary_markdown(rows, notes=notes, meta=meta)
-    p = out / "summary.md"
-    with atomic_path(p) as tmp:
-        tmp.write_text(summary, encoding="utf-8")
-    paths["summary"] = p
     figs: dict = {}
     written: list[Path] = []
     if plots and rows:
@@ -758,7 +770,10 @@ def write_report(out, rows, *, matrices: dict | None = None, perm_dir=None, note
         for m in _matrices(rows):
             src = (matrices or {}).get(m)
             mrows = [r for r in rows if r["matrix"] == m and _ok(r)]
-            if src is None or perm_dir is None or not mrows or (mrows[0].get("nnz") or 0) > spy_limit:
+            if src is None or perm_dir is None or not mrows:
+                continue
+            if (mrows[0].get("nnz") or 0) > spy_limit:
+                notes.append(f"no spy plot for {m}: more than {spy_limit:,} entries")
                 continue
             try:
                 A = read_matrix(src)
@@ -769,6 +784,11 @@ def write_report(out, rows, *, matrices: dict | None = None, perm_dir=None, note
                 continue
             written += plot_spy(pdir / f"spy_{m}", m, A, perms)
             figs["spy"][m] = written[-2]
+    summary = summary_markdown(rows, notes=notes, meta=meta)
+    p = out / "summary.md"
+    with atomic_path(p) as tmp:
+        tmp.write_text(summary, encoding="utf-8")
+    paths["summary"] = p
     paths["plots"] = written
     paths["html"] = write_html(out / "report.html", rows, plots=figs, notes=notes, meta=meta,
                                links=["results.csv", "results.json", "summary.md"])

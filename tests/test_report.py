@@ -83,6 +83,14 @@ def test_performance_profile_random_tables_match_definition():
     assert np.all(np.diff(got, axis=0) >= 0) and got.max() <= 1.0
 
 
+def test_profile_problems_leave_out_cases_not_run():
+    rows = _rows()  # "c" ran only "natural" (and failed): not a problem every method ran on
+    assert R.profile_problems(rows) == ["a", "b"]
+    rows.append({"matrix": "c", "method": "rcm", "status": "error"})
+    rows.append({"matrix": "c", "method": "nd", "status": "ok", "nnz_factor": 5})
+    assert R.profile_problems(rows) == ["a", "b", "c"]
+
+
 def test_profile_breakpoints():
     np.testing.assert_array_equal(R.profile_breakpoints(TABLE), [1.0, 2.0, 4.0])
 
