@@ -336,6 +336,7 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
         vecs, info = _candidate_vectors(c.indptr, c.indices, c.ewgt, seed, eigenvectors if mode == "window" else 1)
         if mode == "median":
             vecs = vecs[:1]
+    nspectral = len(vecs)
     if mode == "window" or not vecs:
         rng = np.random.default_rng(seed)
         starts = [int(np.argmax(_k.bfs_levels(c.indptr, c.indices, 0)))]
@@ -346,7 +347,11 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     best_key = None
     for j, vec in enumerate(vecs):
         p2, _ = split_vector(c.indptr, c.indices, vec, ewgt=c.ewgt, vwgt=c.vwgt, balance=balance, mode=mode)
-        part = cover_separator(c.indptr, c.indices, p2, vwgt=c.vwgt if multilevel else None)
+        if j < nspectral or not refine:
+            part = cover_separator(c.indptr, c.indices, p2, vwgt=c.vwgt if multilevel else None)
+        else:  # breadth-first candidates on the cheap path: one-sided boundary, FM does the rest
+            part = p2
+            _k.boundary_cover(c.indptr, c.indices, part, c.vwgt)
         if refine:
             w = refine_separator(c.indptr, c.indices, part, vwgt=c.vwgt, balance=balance)
         else:

@@ -1,0 +1,191 @@
+"""Benchmark nested dissection (and auto) against SciPy's minimum degree, measured in the same run.
+
+For each matrix: SciPy SuperLU's own minimum degree on A + Aᵀ (``permc_spec="MMD_AT_PLUS_A"``,
+``diag_pivot_thresh=0``, ``SymmetricMode``; ordering = inverse of ``perm_c``, applied to an M-matrix of
+the same pattern so no pivoting interferes), our ``nd`` (optionally variants and ``auto``), all counted
+by :mod:`reorder.analysis` (exact nnz(L) and Σ c_j² operations). Prints ratios to SciPy and the
+geometric means over the issue's target set (2-D/3-D grid and finite-element matrices with n ≥ 10⁴),
+then times ``nd`` on 2-D 5-point grids of growing size. Writes ``scripts/results/bench_dissection.json``.
+
+Usage::
+
+    python scripts/bench_dissection.py                 # suite + scaling up to 1000x1000
+    python scripts/bench_dissection.py --max-grid 500  # smaller scaling run
+    python scripts/bench_dissection.py --variants      # also the plain / no-refinement variants
+    python scripts/bench_dissection.py --factor        # also time SuperLU factorizations on 3-D cases
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import time
+from pathlib import Path
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.linalg import splu
+
+from reorder.analysis import symbolic_factor
+from reorder.graph import from_matrix
+from reorder.orderings import order
+
+TARGET_KINDS = ("grid2d", "grid3d", "fem2d", "fem3d")
+
+
+def m_matrix(A):
+    P = sp.csr_matrix(A, copy=True)
+    P = (abs(P) + abs(P).T).tocsr()
+    P.setdiag(0)
+    P.eliminate_zeros()
+    P.data[:] = -1.0
+    d = -np.asarray(P.sum(axis=1)).ravel()
+    return sp.csc_matrix(P + sp.diags(d + 1.0))
+
+
+def scipy_md(M):
+    """SciPy SuperLU minimum degree on A+Aᵀ: returns (ordering in our convention, seconds)."""
+    t = time.perf_counter()
+    lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
+    sec = time.perf_counter() - t
+    perm = np.empty(M.shape[0], dtype=np.int64)
+    perm[lu.perm_c] = np.arange(M.shape[0])
+    return perm, sec
+
+
+def suite_cases(min_n):
+    try:
+        from reorder.bundled import manifest, suite_dir
+        from reorder.io import read_matrix
+    except ImportError:
+        return []
+    out = []
+    d = suite_dir()
+    for e in manifest():
+        if e.get("kind") in TARGET_KINDS and e.get("n", 0) >= min_n:
+            out.append((e["name"], e["kind"], lambda f=d / e["file"]: read_matrix(f)))
+    return out
+
+
+def generated_cases():
+    import pyamg
+
+    return [
+        ("gen_5pt_300x300", "grid2d", lambda: pyamg.gallery.poisson((300, 300)).tocsr()),
+        ("gen_9pt_300x300", "grid2d", lambda: pyamg.gallery.stencil_grid(np.ones((3, 3)), (300, 300)).tocsr()),
+        ("gen_7pt_40^3", "grid3d", lambda: pyamg.gallery.poisson((40, 40, 40)).tocsr()),
+        ("gen_27pt_30^3", "grid3d", lambda: pyamg.gallery.stencil_grid(np.ones((3, 3, 3)), (30, 30, 30)).tocsr()),
+    ]
+
+
+def gmean(x):
+    return float(math.exp(np.mean(np.log(x)))) if len(x) else float("nan")
+
+
+def run_suite(cases, variants, with_auto, factor):
+    rows = []
+    hdr = f"{'matrix':28s} {'kind':7s} {'n':>8s} {'method':10s} {'nnzL/md':>8s} {'ops/md':>8s} {'t_ord':>7s} {'t_md':>7s}"
+    print(hdr)
+    print("-" * len(hdr))
+    for name, kind, load in cases:
+        A = load()
+        G = from_matrix(A)
+        M = m_matrix(A)
+        pm, t_md = scipy_md(M)
+        s0 = symbolic_factor(G, pm)
+        methods = [("nd", {})]
+        if variants:
+            methods += [("nd-plain", dict(multilevel=False, refine=False, split="median")),
+                        ("nd-norefine", dict(refine=False)), ("nd-trials1", dict(trials=1))]
+        if with_auto:
+            methods.append(("auto", {}))
+        for label, opts in methods:
+            meth = "auto" if label == "auto" else "nd"
+            o = order(G, meth, **opts)
+            s = symbolic_factor(G, o.perm)
+            r = {"matrix": name, "kind": kind, "n": G.n, "method": label,
+                 "nnz_factor": s.nnz_factor, "factor_ops": s.factor_ops, "seconds": o.seconds,
+                 "md_nnz_factor": s0.nnz_factor, "md_factor_ops": s0.factor_ops, "md_seconds": t_md,
+                 "nnz_ratio": s.nnz_factor / s0.nnz_factor, "ops_ratio": s.factor_ops / s0.factor_ops}
+            if label == "auto":
+                r["chosen"] = o.info.get("chosen")
+            if factor and label == "nd" and kind in ("grid3d", "fem3d"):
+                Mp = M[o.perm][:, o.perm].tocsc()
+                t = time.perf_counter()
+                splu(Mp, permc_spec="NATURAL", diag_pivot_thresh=0, options={"SymmetricMode": True})
+                r["factor_seconds_nd"] = time.perf_counter() - t + o.seconds
+                r["factor_seconds_md"] = t_md
+            rows.append(r)
+            extra = f"  factor {r['factor_seconds_nd']:.2f}s vs {t_md:.2f}s" if "factor_seconds_nd" in r else ""
+            extra += f"  chose {r['chosen']}" if "chosen" in r else ""
+            print(f"{name:28s} {kind:7s} {G.n:8d} {label:10s} {r['nnz_ratio']:8.3f} {r['ops_ratio']:8.3f} "
+                  f"{o.seconds:7.2f} {t_md:7.2f}{extra}", flush=True)
+    return rows
+
+
+def run_scaling(sizes):
+    import pyamg
+
+    out = []
+    print(f"\n{'grid':>12s} {'n':>9s} {'t_nd':>7s} {'t/(n log2 n) [us]':>18s} {'nnzL/md':>8s}")
+    for k in sizes:
+        A = pyamg.gallery.poisson((k, k)).tocsr()
+        G = from_matrix(A)
+        o = order(G, "nd")
+        s = symbolic_factor(G, o.perm)
+        n = G.n
+        r = {"k": k, "n": n, "seconds": o.seconds, "nnz_factor": s.nnz_factor, "factor_ops": s.factor_ops,
+             "us_per_nlogn": 1e6 * o.seconds / (n * math.log2(n))}
+        if n <= 300_000:
+            pm, t_md = scipy_md(m_matrix(A))
+            s0 = symbolic_factor(G, pm)
+            r.update(md_nnz_factor=s0.nnz_factor, md_seconds=t_md, nnz_ratio=s.nnz_factor / s0.nnz_factor)
+        out.append(r)
+        print(f"{k:>5d}x{k:<6d} {n:9d} {o.seconds:7.2f} {r['us_per_nlogn']:18.3f} {r.get('nnz_ratio', float('nan')):8.3f}",
+              flush=True)
+    return out
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--min-n", type=int, default=10_000)
+    ap.add_argument("--max-grid", type=int, default=1000)
+    ap.add_argument("--no-generated", action="store_true")
+    ap.add_argument("--variants", action="store_true")
+    ap.add_argument("--no-auto", action="store_true")
+    ap.add_argument("--factor", action="store_true")
+    ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_dissection.json"))
+    args = ap.parse_args()
+
+    cases = suite_cases(args.min_n)
+    if not args.no_generated:
+        cases += generated_cases()
+    rows = run_suite(cases, args.variants, not args.no_auto, args.factor)
+    nd = [r for r in rows if r["method"] == "nd"]
+    suite_nd = [r for r in nd if not r["matrix"].startswith("gen_")]
+    summary = {
+        "suite_targets": {"count": len(suite_nd),
+                          "gmean_nnz_ratio": gmean([r["nnz_ratio"] for r in suite_nd]),
+                          "gmean_ops_ratio": gmean([r["ops_ratio"] for r in suite_nd]),
+                          "max_nnz_ratio": max((r["nnz_ratio"] for r in suite_nd), default=float("nan")),
+                          "max_ops_ratio": max((r["ops_ratio"] for r in suite_nd), default=float("nan"))},
+        "all_nd": {"count": len(nd), "gmean_nnz_ratio": gmean([r["nnz_ratio"] for r in nd]),
+                   "gmean_ops_ratio": gmean([r["ops_ratio"] for r in nd])},
+    }
+    for label in sorted({r["method"] for r in rows} - {"nd"}):
+        sel = [r for r in rows if r["method"] == label and not r["matrix"].startswith("gen_")]
+        summary[label] = {"gmean_nnz_ratio": gmean([r["nnz_ratio"] for r in sel]),
+                          "gmean_ops_ratio": gmean([r["ops_ratio"] for r in sel])}
+    print("\nsummary (ratios to SciPy's minimum degree, geometric means):")
+    for k, v in summary.items():
+        print(f"  {k:14s} " + "  ".join(f"{a}={b:.3f}" if isinstance(b, float) else f"{a}={b}" for a, b in v.items()))
+    sizes = [k for k in (125, 250, 500, 1000) if k <= args.max_grid]
+    scaling = run_scaling(sizes) if sizes else []
+    Path(args.out).parent.mkdir(parents=True, exist_ok=True)
+    Path(args.out).write_text(json.dumps({"rows": rows, "summary": summary, "scaling": scaling}, indent=1))
+    print(f"\nwrote {args.out}")
+
+
+if __name__ == "__main__":
+    main()
