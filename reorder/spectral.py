@@ -174,6 +174,26 @@ def _operator(graph: Graph, operator: str, weights: str):
     return A, y, (bound or 1.0), d, L
 
 
+def _dense_operator(graph: Graph, operator: str, weights: str):
+    """As :func:`_operator` with dense NumPy arrays (small graphs: no sparse-matrix overhead)."""
+    n = graph.n
+    W = np.zeros((n, n))
+    rows = np.repeat(np.arange(n), np.diff(graph.indptr))
+    w = graph.weights if (weights == "values" and graph.weights is not None) else 1.0
+    W[rows, graph.indices] = w
+    d = W.sum(axis=1)
+    L = np.diag(d) - W
+    if operator == "laplacian":
+        A, y, bound = L, np.ones(n), 2.0 * float(d.max())
+    else:
+        s = np.zeros_like(d)
+        s[d > 0] = 1.0 / np.sqrt(d[d > 0])
+        A = np.diag((d > 0).astype(np.float64)) - s[:, None] * W * s[None, :]
+        y, bound = np.sqrt(d), 2.0
+    y = y / (np.linalg.norm(y) or 1.0)
+    return A, y, (bound or 1.0), d, L
+
+
 # --------------------------------------------------------------------------------------------------
 # level structures
 
@@ -255,16 +275,26 @@ def level_structure_vector(graph: Graph, *, start: int | None = None) -> np.ndar
 # solvers
 
 
+_CONTROLLER = []
+
+
 def _blas_limit(threads):
     """Context limiting BLAS threads (the small dense products of LOBPCG and the AMG coarse solve
-    lose badly to thread contention on a loaded 2-core machine); a no-op without threadpoolctl."""
+    lose badly to thread contention on a loaded 2-core machine); a no-op without threadpoolctl.
+    The library scan is done once per process."""
     if threads is None:
         return nullcontext()
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:
+    if not _CONTROLLER:
+        try:
+            from threadpoolctl import ThreadpoolController
+
+            _CONTROLLER.append(ThreadpoolController())
+        except Exception:  # noqa: BLE001 - threadpoolctl missing or too old
+            _CONTROLLER.append(None)
+    ctl = _CONTROLLER[0]
+    if ctl is None:
         return nullcontext()
-    return threadpool_limits(limits=int(threads), user_api="blas")
+    return ctl.limit(limits=int(threads), user_api="blas")
 
 
 def _fix_sign(x):
@@ -294,7 +324,7 @@ def _residuals(A, w, V):
 
 def _solve_dense(A, y, k, **_):
     n = A.shape[0]
-    M = A.toarray()
+    M = A if isinstance(A, np.ndarray) else A.toarray()
     hi = min(k, n - 1)
     w, V = sla.eigh(M, subset_by_index=[0, hi], driver="evr")
     # drop the trivial pair: the column closest to y
@@ -339,6 +369,12 @@ def _amg_preconditioner(L, operator, degrees, scale):
             smooth=("jacobi", {"omega": 4.0 / 3.0, "weighting": "local"}))
     finally:
         np.random.set_state(state)
+    # the Galerkin products come back as BSR with 1×1 blocks; CSR relaxes about twice as fast
+    for lvl in ml.levels:
+        lvl.A = sp.csr_matrix(lvl.A)
+        if hasattr(lvl, "P"):
+            lvl.P = sp.csr_matrix(lvl.P)
+            lvl.R = sp.csr_matrix(lvl.R)
     P = ml.aspreconditioner(cycle="V")
     if operator == "laplacian":
         return P, ml
@@ -363,12 +399,17 @@ def _lobpcg(A, X, M, y, tol, maxiter):
     return w[i], V[:, i], max(len(hist) - 1, 1)
 
 
-def _solve_lobpcg(A, y, k, *, seed, tol, maxiter, x0, amg, operator, degrees, scale, L, block=None,
-                  probe=4, **_):
-    """LOBPCG in two phases: ``probe`` iterations give Ritz values, which set the absolute
-    tolerance ``tol · λ`` for the remaining iterations (LOBPCG itself only knows absolute ones)."""
+def _solve_lobpcg(A, y, k, *, seed, tol, maxiter, x0, amg, operator, degrees, scale, L, graph, block=None,
+                  **_):
+    """LOBPCG with the trivial vector as constraint.
+
+    LOBPCG only knows absolute residual tolerances; the wanted one is relative to λ₂. Without a warm
+    start, the breadth-first level vector (a rough Fiedler vector) is the first starting column and
+    its Rayleigh quotient, an upper bound of λ₂, sets the absolute tolerance; restarts with the
+    Ritz values then tighten it if needed.
+    """
     n = A.shape[0]
-    m = block or (k + 2)
+    m = block or (k + 1)
     m = max(1, min(m, (n - 1) // 5))
     rng = np.random.default_rng(seed)
     X = rng.standard_normal((n, m))
@@ -376,24 +417,31 @@ def _solve_lobpcg(A, y, k, *, seed, tol, maxiter, x0, amg, operator, degrees, sc
         X0 = np.asarray(x0, dtype=np.float64).reshape(n, -1)
         c = min(m, X0.shape[1])
         X[:, :c] = X0[:, :c]
+    else:
+        xl = level_structure_vector(graph)
+        if operator == "normalized":
+            xl = xl * np.sqrt(degrees)
+        X[:, 0] = xl
     X = _project_out(X, y)
+    floor = 1e-3 * scale / n
+    q = X[:, 0] / (np.linalg.norm(X[:, 0]) or 1.0)
+    rq = float(q @ (A @ q))
     M = None
     setup = 0.0
     if amg:
         t0 = time.perf_counter()
         M, _ = _amg_preconditioner(L, operator, degrees, scale)
         setup = time.perf_counter() - t0
-    floor = 1e-3 * scale / n
-    # phase 1: a few iterations for Ritz values; then absolute tolerances tol·λ from the current
-    # Ritz values (upper bounds that shrink), restarting from the current block
-    w, V, its = _lobpcg(A, X, M, y, tol * floor, min(probe, maxiter))
+    abs_tol = 0.5 * tol * max(rq, floor)
+    its = 0
     for _ in range(6):
+        w, V, more = _lobpcg(A, X, M, y, abs_tol, maxiter - its)
+        its += more
         res = _residuals(A, w[:k], V[:, :k])
         if np.all(res <= tol * np.maximum(np.abs(w[:k]), floor)) or its >= maxiter:
             break
         abs_tol = 0.5 * tol * max(float(np.min(np.abs(w[:k]))), floor)
-        w, V, more = _lobpcg(A, V, M, y, abs_tol, maxiter - its)
-        its += more
+        X = V
     return w[:k], V[:, :k], its, setup
 
 
@@ -420,7 +468,7 @@ def _solve_level(graph, A, y, k, **_):
 
 def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = "pattern", seed: int = 0,
                    tol: float = 1e-3, maxiter: int = 200, k: int = 1, x0=None, solver: str = "auto",
-                   dense_max: int = 300, eigsh_max: int = 4000, fallback_eigsh_max: int = 50_000,
+                   dense_max: int = 200, eigsh_max: int = 5000, fallback_eigsh_max: int = 50_000,
                    fallbacks=("eigsh", "lobpcg", "level-structure"), accept: float = 2.0,
                    blas_threads: int | None = 1) -> FiedlerResult:
     """Fiedler vector (and optionally the next eigenvectors) of a connected graph.
@@ -483,13 +531,15 @@ def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = 
         v = np.zeros(n)
         info["seconds"] = time.perf_counter() - t_start
         return FiedlerResult(v, 0.0, "trivial", 0.0, 0, v.reshape(n, 1) if k > 1 else None, info)
-    A, y, scale, deg, L = _operator(graph, operator, weights)
     kk = min(k, n - 1)
-
     if solver == "auto":
         first = "dense" if n <= dense_max else ("eigsh" if n <= eigsh_max else "lobpcg-amg")
     else:
         first = solver
+    if first == "dense" and n <= dense_max:
+        A, y, scale, deg, L = _dense_operator(graph, operator, weights)
+    else:
+        A, y, scale, deg, L = _operator(graph, operator, weights)
     plan = [first]
     for f in fallbacks:
         if f == "eigsh" and n > fallback_eigsh_max:
@@ -531,7 +581,7 @@ def _run_plan(graph, A, y, L, deg, scale, plan, kk, info, *, seed, tol, maxiter,
                 w, V, its, setup = _solve_lobpcg(
                     A, y, kk, seed=seed + (1 if retry else 0), tol=tol, maxiter=mi,
                     x0=None if retry else x0, amg=(name == "lobpcg-amg" or retry), operator=operator,
-                    degrees=deg, scale=scale, L=L)
+                    degrees=deg, scale=scale, L=L, graph=graph)
                 if name == "lobpcg" and retry:
                     att["solver"] = name = "lobpcg-amg"
                 retry = True

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import time
 
 import numpy as np
@@ -156,7 +157,7 @@ def main():
                     help="small: bundled matrices up to 5000 rows (generated: ~4000); medium: all")
     ap.add_argument("--generated", action="store_true", help="ignore the bundled suite")
     ap.add_argument("--big", action="store_true", help="also time the 10^6-vertex grid end to end")
-    ap.add_argument("--json", default="bench_envelope.json")
+    ap.add_argument("--json", default=os.path.join(os.path.dirname(__file__), "results", "bench_envelope.json"))
     args = ap.parse_args()
     suite = None if args.generated else bundled_suite(args.size)
     source = "bundled" if suite else "generated"
@@ -192,6 +193,8 @@ def main():
               f"{big['seconds_refine']:.2f} s; target <= 15 s), RCM {t_rcm:.2f} s, profile ratio "
               f"{big['ratio']:.3f}, winner {big['winner']}")
         out["big"] = big
+    out["loadavg"] = os.getloadavg()
+    os.makedirs(os.path.dirname(os.path.abspath(args.json)), exist_ok=True)
     with open(args.json, "w") as fh:
         json.dump(out, fh, indent=1)
     print(f"wrote {args.json}")
