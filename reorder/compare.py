@@ -469,7 +469,13 @@ def _run_serial(cases, on_result):
 def _mp_context():
     import multiprocessing as mp
 
+    import sys
+
     methods = mp.get_all_start_methods()
+    main_file = getattr(sys.modules.get("__main__"), "__file__", None)
+    if main_file and not os.path.exists(main_file) and "fork" in methods:
+        # a main program read from stdin cannot be re-imported by spawned workers; fork copies it
+        return mp.get_context("fork")
     return mp.get_context("forkserver" if "forkserver" in methods else "spawn")
 
 
