@@ -95,7 +95,7 @@ def _value_priority(x: np.ndarray, depth: float) -> np.ndarray:
 @register("spectral", summary="Fiedler-vector envelope ordering refined by Sloan's algorithm", rank=20)
 def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian", weights: str = "pattern",
                       refine: bool = True, candidates=("spectral", "hybrid", "sloan", "rcm", "polish"),
-                      polish_rounds: int = 2, large: int = 200_000, **options):
+                      polish_rounds: int = 2, large: int = 200_000, near_double: float = 0.05, **options):
     """Spectral envelope ordering of a connected graph, with profile refinement.
 
     The vertices are sorted by the Fiedler vector of the chosen Laplacian (ties by index). With
@@ -123,7 +123,10 @@ def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian
         Which candidate families to try when refining.
     polish_rounds : int
     large : int
-        Above this many vertices fewer weight pairs are tried (time).
+        Above this many vertices fewer weight pairs are tried and only one eigenvector is computed.
+    near_double : float
+        When ``λ₃ − λ₂ <= near_double · λ₂`` (up to ``large`` vertices) the second eigenvector and the
+        mixes ``v₂ ± v₃`` drive further hybrid candidates.
     **options
         Passed to :func:`reorder.spectral.fiedler_vector` (``tol``, ``maxiter``, ``solver`` ...).
 
@@ -143,9 +146,18 @@ def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian
     n = graph.n
     fopts = {k: v for k, v in options.items() if k in _FIEDLER_OPTIONS}
     t0 = time.perf_counter()
-    fr = fiedler_vector(graph, operator=operator, weights=weights, seed=seed, **fopts)
+    k = 2 if (refine and n <= large and n >= 8) else 1
+    fr = fiedler_vector(graph, operator=operator, weights=weights, seed=seed, k=k, **fopts)
     t1 = time.perf_counter()
     x = fr.vector
+    # near-double λ₂ (square grids, symmetric parts): the computed vector is one arbitrary mix of the
+    # eigenspace, so the second vector and the diagonal mixes also drive hybrid candidates
+    extra = []
+    if fr.vectors is not None and fr.vectors.shape[1] > 1:
+        lam = fr.info.get("values", [fr.value])
+        if len(lam) > 1 and lam[1] - lam[0] <= near_double * max(lam[0], 1e-300):
+            x2 = fr.vectors[:, 1]
+            extra = [("v2", x2), ("v1+v2", x + x2), ("v1-v2", x - x2)]
     base = spectral_sort(x)
     info = {
         "fiedler_path": fr.path,
@@ -182,6 +194,12 @@ def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian
             g = _value_priority(xv, depth)
             for w1, w2 in pairs:
                 add(f"hybrid{direction}-{w1:g}-{w2:g}", sloan_order(graph, start, g, w1, w2))
+        for tag, xe in extra:
+            be = spectral_sort(xe)
+            for direction, xv, start in (("", xe, int(be[0])), ("-from-end", -xe, int(be[-1]))):
+                g = _value_priority(xv, depth)
+                for w1, w2 in HYBRID_WEIGHTS[:3]:
+                    add(f"hybrid-{tag}{direction}-{w1:g}-{w2:g}", sloan_order(graph, start, g, w1, w2))
     if "sloan" in candidates:
         add("sloan-2-1", sloan_order(graph, s, le.astype(np.float64), 2.0, 1.0))
     if "rcm" in candidates:
