@@ -13,6 +13,7 @@ Usage::
     python scripts/bench_dissection.py --max-grid 500  # smaller scaling run
     python scripts/bench_dissection.py --variants      # also the plain / no-refinement variants
     python scripts/bench_dissection.py --factor        # also time SuperLU factorizations on 3-D cases
+    python scripts/bench_dissection.py --auto-suite    # also auto vs best of RCM / SciPy MD, whole suite
 """
 
 from __future__ import annotations
@@ -124,6 +125,30 @@ def run_suite(cases, variants, with_auto, factor):
     return rows
 
 
+def run_auto_suite():
+    """``auto`` on every bundled matrix against the better of SciPy's RCM and minimum degree."""
+    from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+    from reorder.bundled import manifest, suite_dir
+    from reorder.io import read_matrix
+
+    out = []
+    print(f"\n{'matrix':30s} {'kind':12s} {'n':>7s} {'auto/best(rcm,md)':>18s} chosen")
+    for e in manifest():
+        A = read_matrix(suite_dir() / e["file"])
+        G = from_matrix(A)
+        if G.n < 3:
+            continue
+        pm, _ = scipy_md(m_matrix(A))
+        pr = np.asarray(reverse_cuthill_mckee(G.to_csr(), symmetric_mode=True), dtype=np.int64)
+        best = min(symbolic_factor(G, pm).nnz_factor, symbolic_factor(G, pr).nnz_factor)
+        o = order(G, "auto")
+        r = symbolic_factor(G, o.perm).nnz_factor / best
+        out.append({"matrix": e["name"], "kind": e["kind"], "n": G.n, "ratio": r, "chosen": o.info.get("chosen")})
+        print(f"{e['name']:30s} {e['kind']:12s} {G.n:7d} {r:18.3f} {o.info.get('chosen')}", flush=True)
+    return out
+
+
 def run_scaling(sizes):
     import pyamg
 
@@ -155,6 +180,7 @@ def main():
     ap.add_argument("--variants", action="store_true")
     ap.add_argument("--no-auto", action="store_true")
     ap.add_argument("--factor", action="store_true")
+    ap.add_argument("--auto-suite", action="store_true", help="also run auto on every bundled matrix")
     ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_dissection.json"))
     args = ap.parse_args()
 
@@ -180,10 +206,12 @@ def main():
     print("\nsummary (ratios to SciPy's minimum degree, geometric means):")
     for k, v in summary.items():
         print(f"  {k:14s} " + "  ".join(f"{a}={b:.3f}" if isinstance(b, float) else f"{a}={b}" for a, b in v.items()))
+    auto_rows = run_auto_suite() if args.auto_suite else []
     sizes = [k for k in (125, 250, 500, 1000) if k <= args.max_grid]
     scaling = run_scaling(sizes) if sizes else []
     Path(args.out).parent.mkdir(parents=True, exist_ok=True)
-    Path(args.out).write_text(json.dumps({"rows": rows, "summary": summary, "scaling": scaling}, indent=1))
+    Path(args.out).write_text(json.dumps({"rows": rows, "summary": summary, "scaling": scaling,
+                                           "auto_suite": auto_rows}, indent=1))
     print(f"\nwrote {args.out}")
 
 
