@@ -305,14 +305,6 @@ def _fix_sign(x):
     return x / (np.linalg.norm(x) or 1.0)
 
 
-def _rayleigh_ritz(A, V):
-    """Orthonormalize V and return Ritz pairs sorted ascending."""
-    Q, _ = np.linalg.qr(V)
-    H = Q.T @ (A @ Q)
-    w, S = np.linalg.eigh((H + H.T) * 0.5)
-    return w, Q @ S
-
-
 def _project_out(X, y):
     return X - np.outer(y, y @ X)
 
@@ -437,7 +429,7 @@ def _solve_lobpcg(A, y, k, *, seed, tol, maxiter, x0, amg, operator, degrees, sc
     abs_tol = 0.5 * tol * max(rq, floor)
     its = 0
     for _ in range(6):
-        w, V, more = _lobpcg(A, X, M, y, abs_tol, maxiter - its)
+        w, V, more = _lobpcg(A, X, M, y, abs_tol, max(maxiter - its, 1))
         its += more
         res = _residuals(A, w[:k], V[:, :k])
         if np.all(res <= tol * np.maximum(np.abs(w[:k]), floor)) or its >= maxiter:
@@ -478,9 +470,10 @@ def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = 
     The trivial eigenvector (constant for ``L = D − W``, ``D^{1/2}·1`` for the normalized operator)
     is deflated. The solver is chosen by size unless ``solver`` names one: dense ``eigh`` up to
     ``dense_max`` vertices, shift-invert Lanczos (ARPACK) up to ``eigsh_max``, LOBPCG preconditioned
-    by one smoothed-aggregation V-cycle built on ``L + εI`` beyond. An attempt that raises or does
-    not reach the tolerance is recorded in ``info["attempts"]`` and the next strategy of
-    ``fallbacks`` is tried (shift-invert Lanczos if the graph has at most ``fallback_eigsh_max``
+    by one smoothed-aggregation V-cycle built on ``L + εI`` beyond (one vector for ``k = 1``, a block
+    of ``k + 1`` otherwise, started from the breadth-first level vector unless ``x0`` is given).
+    An attempt that raises or does not reach the tolerance is recorded in ``info["attempts"]`` and
+    the next strategy of ``fallbacks`` is tried (shift-invert Lanczos if the graph has at most ``fallback_eigsh_max``
     vertices; LOBPCG again with four times the iterations and a fresh start; the breadth-first level
     structure, which always succeeds). The function does not raise on a connected graph.
 

@@ -148,6 +148,14 @@ def test_weighted_values_match_dense_weighted_laplacian():
     assert np.allclose(laplacian(g, weights="values").toarray(), np.diag(W.sum(1)) - W)
     N = normalized_laplacian(g, weights="values").toarray()
     assert np.allclose(N, np.eye(49) - W / np.sqrt(np.outer(W.sum(1), W.sum(1))))
+    # every solver, both operators, against NumPy eigh of the dense weighted operators
+    wn, Vn = np.linalg.eigh(N)
+    for operator, lam, vec in (("laplacian", w[1], V[:, 1]), ("normalized", wn[1], Vn[:, 1])):
+        for solver in ("dense", "eigsh", "lobpcg-amg"):
+            r = fiedler_vector(g, operator=operator, weights="values", solver=solver, tol=1e-8)
+            assert r.path == solver
+            assert abs(r.value - lam) < 1e-6 * lam
+            assert same_up_to_sign(r.vector, vec, atol=1e-4), (operator, solver)
 
 
 def test_planted_partition_recovered():
