@@ -360,8 +360,14 @@ def compare_cmd(
     factor: bool = typer.Option(False, "--factor", help="Also run a real factorization (SciPy SuperLU, natural order, no pivoting)."),
     cluster: Optional[str] = typer.Option(None, "--cluster", help="Dask scheduler address tcp://HOST:PORT (needs the 'cluster' extra)."),
     seed: int = typer.Option(0, "--seed", help="Seed for every ordering."),
+    plots: bool = typer.Option(True, "--plots/--no-plots", help="Draw spy plots, relative-fill plots and performance profiles."),
+    factor_max_ops: float = typer.Option(5e10, "--factor-max-ops", help="Skip real factorizations needing more operations than this."),
 ):
-    """Run every method on every matrix; write results.csv/json, permutations, plots and report.html."""
+    """Run every method on every matrix; write results.csv/json, permutations, plots and report.html.
+
+    Orderings change only the speed and memory of a factorization, never the solution of an SPD
+    system; a pivoting solver may reorder further.
+    """
     from . import compare as _compare
     from .orderings import available
 
@@ -372,18 +378,22 @@ def compare_cmd(
         raise InputError(f"--workers must be at least 1, not {workers}")
     _compare.run_compare(
         inputs, methods=names, out=out, workers=workers, resume=resume, factor=factor,
-        cluster=cluster, seed=seed, progress=True,
+        cluster=cluster, seed=seed, progress=True, plots=plots, factor_max_ops=factor_max_ops,
     )
 
 
 @app.command("demo")
 def demo_cmd(
     out: Path = typer.Option(Path("reorder-demo"), "--out", help="Folder for the demo's results and report."),
+    workers: int = typer.Option(1, "--workers", help="Local worker processes."),
+    resume: bool = typer.Option(False, "--resume", help="Skip cases already finished in OUT."),
 ):
     """Compare every ordering on the bundled matrices and write a report."""
     from . import compare as _compare
 
-    _compare.run_demo(out=out)
+    if workers < 1:
+        raise InputError(f"--workers must be at least 1, not {workers}")
+    _compare.run_demo(out=out, workers=workers, resume=resume)
 
 
 @app.callback(invoke_without_command=True)
