@@ -37,8 +37,10 @@ def test_grid_below_ideal_nested_dissection(k):
     assert mult <= 829 / 84 * k**3
     rcm = reverse_cuthill_mckee(G.to_csr(), symmetric_mode=True)  # SciPy baseline
     assert s.nnz_factor <= 0.6 * symbolic_factor(G, rcm).nnz_factor
-    # the top separator of a k x k grid is about one grid line (George 1973)
-    assert k <= o.info["top_separator"] <= 1.2 * k
+    # the top separator of a k x k grid is about one grid line (George 1973); with the default
+    # balance window 0.3 a diagonal corner cut is allowed: it holds 30 % of the square when its
+    # length is sqrt(0.6)·k ≈ 0.77 k (elementary geometry), the smallest admissible separator
+    assert 0.75 * k <= o.info["top_separator"] <= 1.2 * k
     validate_tree(o.info["separator_tree"], o.perm, G)
 
 
