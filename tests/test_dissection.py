@@ -15,7 +15,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components, reverse_cuthill_mckee
 
 from reorder.analysis import symbolic_factor
-from reorder.graph import Graph, from_edges, from_matrix
+from reorder.graph import from_edges, from_matrix
 from reorder.orderings import order
 from reorder.orderings.dissection import tree_summary, validate_tree
 

@@ -38,7 +38,7 @@ References
 from __future__ import annotations
 
 import numpy as np
-from scipy.sparse.csgraph import connected_components, reverse_cuthill_mckee
+from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from ..graph import Graph
 from ..kernels import separators as _k
