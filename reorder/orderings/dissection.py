@@ -152,7 +152,8 @@ def _pack_components(labels: np.ndarray, ncomp: int, leaf_size: int) -> list[np.
           split_components=False, rank=40)
 def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, balance: float = 0.3,
                       multilevel: bool = True, refine: bool = True, split: str = "window",
-                      leaf_order: str = "auto", coarse_size: int = 100, eigenvectors: int = 2, spectral_min: int = 2000, trials: int | None = None, trials_min: int = 0,
+                      leaf_order: str = "auto", coarse_size: int = 100, eigenvectors: int = 2,
+                      spectral_min: int = 2000, trials: int | None = None, trials_min: int = 0,
                       ratio_key: bool = False, top_trials: int | None = None, top_fraction: float = 0.1,
                       **options):
     """Nested dissection ordering with multilevel spectral vertex separators.
