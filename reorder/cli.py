@@ -102,6 +102,14 @@ def _jsonable(obj):
     return obj
 
 
+def _fmt(v) -> str:
+    if isinstance(v, float):
+        return f"{v:.3g}"
+    if isinstance(v, list):
+        return "[" + ", ".join(_fmt(x) for x in v) + "]"
+    return str(v)
+
+
 def _write_json(path: Path, payload) -> None:
     from .io import atomic_path
 
@@ -308,7 +316,7 @@ def stats_cmd(
     if levels:
         typer.echo("  separator tree, top levels:")
         for lev in levels:
-            typer.echo("    " + ", ".join(f"{k}={v}" for k, v in lev.items()))
+            typer.echo("    " + ", ".join(f"{k}={_fmt(v)}" for k, v in lev.items()))
     if not s.pattern_symmetric:
         typer.echo("  note: the pattern of A is not symmetric; measures use the pattern of A + A^T")
 
