@@ -15,7 +15,7 @@ from reorder.graph import from_edges, from_matrix
 from reorder.orderings import available, order
 from reorder.orderings.mindegree import halo_minimum_degree, minimum_degree
 
-SCORES = ["degree", "mean_fill", "fill", "auto"]
+SCORES = ["degree", "mean_fill", "fill", "exact", "exact_mean_fill", "auto"]
 
 
 def graph_of(nxg):
@@ -253,7 +253,7 @@ def test_workspace_compaction_does_not_change_the_order():
     import pyamg
 
     G = from_matrix(pyamg.gallery.poisson((9, 9, 9)))
-    for score in ("degree", "fill"):
+    for score in ("degree", "fill", "exact", "exact_mean_fill"):
         roomy, info_a = minimum_degree(G, score=score, elbow=2.0)
         tight, info_b = minimum_degree(G, score=score, elbow=0.0)
         assert info_b["compactions"] > info_a["compactions"]

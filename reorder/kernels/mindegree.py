@@ -157,6 +157,35 @@ def _fill_score(d, m, c):
 
 
 @njit(cache=True)
+def _exact_degree(i, ws, start, length, nelem, state, wt, flag, tock):
+    """Exact external degree of variable ``i`` (weight of the union of its element and variable
+    lists, ``i`` excluded) and the weight of its largest adjacent element; marks with ``tock``."""
+    flag[i] = tock
+    d = 0
+    big = 0
+    s = start[i]
+    for k in range(length[i]):
+        x = ws[s + k]
+        if k < nelem[i]:
+            if state[x] != _ELEM:
+                continue
+            we = 0
+            for p in range(start[x], start[x] + length[x]):
+                j = ws[p]
+                if state[j] == _VAR and j != i:
+                    we += wt[j]
+                    if flag[j] != tock:
+                        flag[j] = tock
+                        d += wt[j]
+            if we > big:
+                big = we
+        elif state[x] == _VAR and flag[x] != tock:
+            flag[x] = tock
+            d += wt[x]
+    return d, big
+
+
+@njit(cache=True)
 def _compact(ws, used, state, start, length, keep):
     """Slide the live lists of ``ws`` to the front, in position order; return the new used size.
 
@@ -188,7 +217,7 @@ def _compact(ws, used, state, start, length, keep):
 
 
 @njit(cache=True)
-def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score):
+def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0):
     """Order the vertices with ``role == 1`` by approximate minimum external degree.
 
     Parameters
@@ -212,7 +241,13 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         ``0``: pick the least approximate external degree (degree buckets). ``1``: the least
         approximate mean local fill per eliminated column (binary heap), see :func:`_fill_score`.
         ``2``: that fill divided by the square root of the supervariable size instead (a milder
-        preference for large supervariables; our variant).
+        preference for large supervariables; our variant). ``3``: the least *exact* external
+        degree with multiple elimination (Liu 1985): pivots of degree at most the stage's least
+        degree plus ``delta`` that are not adjacent to an element made in the same stage are
+        eliminated one after another, and the exact degrees of their neighbours are recomputed
+        once, at the end of the stage.
+    delta : int
+        Degree tolerance of a multiple-elimination stage (``score == 3`` only).
 
     Returns
     -------
@@ -220,6 +255,10 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         The vertices with ``role == 1`` in elimination order.
     counters : int64 array
         ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace]``.
+    group : int64 array
+        ``group[k]`` is the pivot step that eliminated ``order[k]``; the vertices of one step
+        (the pivot's supervariable and the vertices mass-eliminated with it) are indistinguishable
+        then, so any order among them gives the same factor.
     """
     # ---- workspace: adjacency without left-out vertices and without halo-halo edges
     nnz = 0
@@ -263,6 +302,14 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     hseq = np.zeros(n, dtype=np.int64)
     hsize = 0
     seq = 0
+    exact = score >= 3
+    useheap = score == 1 or score == 2 or score >= 4
+    stageval = 0.0
+    dlim = delta if delta >= 0 else -delta - 1
+    pend = np.zeros(n, dtype=np.int8)  # exact mode: degree awaits the end of the stage
+    plist = np.empty(n, dtype=np.int64)
+    npend = 0
+    stagedeg = 0
     counters = np.zeros(6, dtype=np.int64)
 
     used = 0
@@ -288,7 +335,12 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     for k in range(n):
         v = tie[k] if fifo else tie[n - 1 - k]
         if role[v] == 1:
-            if score:
+            if score == 4 or score == 5:
+                hval[v] = deg[v] + 0.5 if score == 4 else _fill_score(deg[v], 0, 1)
+                hseq[v] = seq
+                seq += 1
+                hsize = _heap_push(v, hsize, heap, hpos, hval, hseq)
+            elif useheap:
                 hval[v] = _fill_score(deg[v], 0, 1)
                 hseq[v] = seq
                 seq += 1
@@ -303,12 +355,57 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     tock = 0  # stamp for list comparison
     while nel < ntodo:
         # ---- pivot: a variable of least approximate external degree
-        if score:
+        if exact and npend > 0:
+            if useheap:
+                if score == 5:
+                    stage_over = hsize == 0 or hval[heap[0]] > stageval
+                else:
+                    stage_over = hsize == 0 or deg[heap[0]] > stagedeg + dlim
+            else:
+                while mindeg <= n and bhead[mindeg] == -1:
+                    mindeg += 1
+                stage_over = mindeg > stagedeg + dlim
+            if stage_over:
+                # end of a multiple-elimination stage: exact external degrees of the neighbours
+                cap = 4 * stagedeg + 64
+                for t in range(npend):
+                    i = plist[t] if delta >= 0 else plist[npend - 1 - t]
+                    pend[i] = 0
+                    if state[i] != _VAR:
+                        continue
+                    if deg[i] > cap:
+                        # far above the least degree: keep the approximate degree (saves the
+                        # scans around hubs; such a vertex is not a pivot candidate soon)
+                        d = deg[i]
+                        big = cliq[i]
+                    else:
+                        d, big = _exact_degree(i, ws, start, length, nelem, state, wt, flag, tock + 1)
+                        tock += 1
+                    if useheap:
+                        deg[i] = d
+                        if score == 5:
+                            hval[i] = _fill_score(d, big, wt[i])
+                        else:
+                            hval[i] = d + 0.5 * (1.0 - big / (d + 1.0))
+                        hseq[i] = seq
+                        seq += 1
+                        hsize = _heap_push(i, hsize, heap, hpos, hval, hseq)
+                    else:
+                        _bucket_insert(i, d, deg, bhead, bnext, bprev, fifo, btail)
+                        if d < mindeg:
+                            mindeg = d
+                npend = 0
+        if useheap:
             me = heap[0]
             hsize = _heap_remove(me, hsize, heap, hpos, hval, hseq)
+            if exact and npend == 0:
+                stagedeg = deg[me]
+                stageval = hval[me]
         else:
             while bhead[mindeg] == -1:
                 mindeg += 1
+            if exact and npend == 0:
+                stagedeg = mindeg
             me = bhead[mindeg]
             _bucket_remove(me, deg, bhead, bnext, bprev, btail)
         pivots[npiv] = me
@@ -331,8 +428,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     q += 1
                     degme += wt[i]
                     wt[i] = -wt[i]
-                    if role[i] == 1:
-                        if score:
+                    if role[i] == 1 and pend[i] == 0:
+                        if useheap:
                             hsize = _heap_remove(i, hsize, heap, hpos, hval, hseq)
                         else:
                             _bucket_remove(i, deg, bhead, bnext, bprev, btail)
@@ -365,8 +462,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                         q += 1
                         degme += wt[i]
                         wt[i] = -wt[i]
-                        if role[i] == 1:
-                            if score:
+                        if role[i] == 1 and pend[i] == 0:
+                            if useheap:
                                 hsize = _heap_remove(i, hsize, heap, hpos, hval, hseq)
                             else:
                                 _bucket_remove(i, deg, bhead, bnext, bprev, btail)
@@ -380,8 +477,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     q += 1
                     degme += wt[i]
                     wt[i] = -wt[i]
-                    if role[i] == 1:
-                        if score:
+                    if role[i] == 1 and pend[i] == 0:
+                        if useheap:
                             hsize = _heap_remove(i, hsize, heap, hpos, hval, hseq)
                         else:
                             _bucket_remove(i, deg, bhead, bnext, bprev, btail)
@@ -531,7 +628,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             ws[q] = i
             q += 1
             if role[i] == 1:
-                d = deg[i] + degme - nvi
+                d = deg[i] + degme - nvi  # approximate external degree (an upper bound)
                 d2 = extd[i] + degme - nvi
                 if d2 < d:
                     d = d2
@@ -539,7 +636,14 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     d = nleft - nvi
                 if d < 0:
                     d = 0
-                if score:
+                if exact:
+                    # the exact degree is computed at the end of the stage
+                    deg[i] = d
+                    if pend[i] == 0:
+                        pend[i] = 1
+                        plist[npend] = i
+                        npend += 1
+                elif useheap:
                     deg[i] = d
                     m = cliq[i] if cliq[i] > degme else degme
                     if score == 2:
@@ -562,18 +666,21 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     # (A mass-eliminated vertex lies in the pivot's clique, so either order of the two gives the
     # same factor; putting the pivot last keeps a hub of an arrow last.)
     out = np.empty(ntodo, dtype=np.int64)
+    group = np.empty(ntodo, dtype=np.int64)
     k = 0
     for t in range(npiv):
         v = xfirst[pivots[t]]
         while v != -1:
             out[k] = v
+            group[k] = t
             k += 1
             v = mnext[v]
         v = pivots[t]
         while v != -1:
             out[k] = v
+            group[k] = t
             k += 1
             v = mnext[v]
     counters[0] = npiv
     counters[5] = wslen
-    return out, counters
+    return out, counters, group
