@@ -275,6 +275,28 @@ def _candidate_vectors(indptr, indices, ewgt, seed, k):
     return vecs, info
 
 
+def _smooth_up(levels, vecs, steps: int = 4, omega: float = 0.6):
+    """Interpolate coarsest-level vectors to the finest level, smoothing on every level by damped
+    Jacobi steps ``x ← (1 − ω) x + ω D⁻¹ W x`` (which keep the low end of the Laplacian spectrum and
+    damp what the piecewise-constant interpolation adds), the mean removed after each level.
+
+    References
+    ----------
+    Barnard & Simon (1994) (interpolated Fiedler vectors, refined level by level).
+    """
+    X = np.column_stack(vecs).astype(np.float64)
+    for lev in reversed(levels[:-1]):
+        X = X[lev.cmap]
+        m = lev.n
+        W = sp.csr_matrix((lev.ewgt.astype(np.float64), lev.indices, lev.indptr), shape=(m, m))
+        d = np.asarray(W.sum(axis=1)).ravel()
+        d[d == 0] = 1.0
+        for _ in range(steps):
+            X = (1.0 - omega) * X + omega * ((W @ X) / d[:, None])
+        X -= X.mean(axis=0)
+    return [X[:, j] for j in range(X.shape[1])]
+
+
 def _score(w, maxside):
     viol = max(0, int(max(w[0], w[1])) - maxside)
     return (viol, int(w[2]), abs(int(w[0]) - int(w[1])))
@@ -282,7 +304,8 @@ def _score(w, maxside):
 
 def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, multilevel: bool = True,
                      refine: bool = True, mode: str = "window", coarse_size: int = 100,
-                     eigenvectors: int = 2, spectral_min: int = 2000, bfs_starts: int = 4) -> Separator:
+                     eigenvectors: int = 2, spectral_min: int = 2000, bfs_starts: int = 4,
+                     keep: int = 3, smooth: int = 4) -> Separator:
     """Vertex separator of a connected graph: coarsen, split spectrally, cover, refine, project.
 
     Parameters
@@ -311,6 +334,10 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     bfs_starts : int
         Breadth-first level structures (from a pseudo-peripheral vertex and random vertices) tried as
         further candidate vectors on the coarsest graph.
+    keep : int
+        The best ``keep`` distinct coarsest-level separators are each projected and refined up to
+        the finest level, where the best is kept (the coarse separator weight predicts the final one
+        poorly).
 
     Returns
     -------
@@ -343,8 +370,7 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
         starts += [int(x) for x in rng.integers(0, c.n, size=max(bfs_starts - 1, 0))]
         for s0 in starts[:max(bfs_starts, 1)]:
             vecs.append(_k.bfs_levels(c.indptr, c.indices, s0).astype(np.float64))
-    best = None
-    best_key = None
+    cands = []
     for j, vec in enumerate(vecs):
         p2, _ = split_vector(c.indptr, c.indices, vec, ewgt=c.ewgt, vwgt=c.vwgt, balance=balance, mode=mode)
         if j < nspectral or not refine:
@@ -357,13 +383,36 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
         else:
             w = np.bincount(part, weights=c.vwgt, minlength=3).astype(np.int64)
         key = _score(w, maxside)
+        if any(np.array_equal(part, q) for _, _, q in cands):
+            continue
+        cands.append((key, j, part))
+    # carry the best few coarse candidates through the uncoarsening: the coarse separator weight is
+    # a poor predictor of the final one (a coarse separator is a thick band that FM thins level by level)
+    cands.sort(key=lambda t: (t[0], t[1]))
+    cands = cands[:max(1, int(keep))] if len(levels) > 1 else cands[:1]
+    best, best_key = None, None
+    if smooth and nspectral and len(levels) > 1:
+        # interpolated, smoothed eigenvectors split at the finest level (the projected separators
+        # above follow the coarse graph's shape; these follow the fine graph's spectrum)
+        for j, vec in enumerate(_smooth_up(levels, vecs[:nspectral], steps=smooth)):
+            p2, _ = split_vector(indptr, indices, vec, balance=balance, mode=mode)
+            part = cover_separator(indptr, indices, p2)
+            if refine:
+                refine_separator(indptr, indices, part, balance=balance)
+            key = _score(np.bincount(part, minlength=3), _max_side(n, balance))
+            if best_key is None or key < best_key:
+                best, best_key, info["candidate"] = part, key, f"smoothed {j}"
+    for key, j, part in cands:
+        for lev in reversed(levels[:-1]):
+            part = part[lev.cmap]
+            if refine:
+                w = refine_separator(lev.indptr, lev.indices, part, vwgt=lev.vwgt, balance=balance)
+        if len(levels) > 1:
+            w = np.bincount(part, minlength=3)
+            key = _score(w, _max_side(n, balance))
         if best_key is None or key < best_key:
             best, best_key, info["candidate"] = part, key, j
     part = best
-    for lev in reversed(levels[:-1]):
-        part = part[lev.cmap]
-        if refine:
-            refine_separator(lev.indptr, lev.indices, part, vwgt=lev.vwgt, balance=balance)
     sizes = tuple(int(x) for x in np.bincount(part, minlength=3))
     info.update(levels=len(levels), coarsest=int(c.n))
     return Separator(part=part, sizes=sizes, info=info)

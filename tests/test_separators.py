@@ -45,11 +45,13 @@ def test_separator_separates_and_balances(matrix, multilevel):
 
 
 def test_grid_separator_is_about_one_line():
-    # a k x k 5-point grid is split by one grid line of k vertices (textbook fact; George 1973)
+    # a k x k 5-point grid is split by one grid line of k vertices (textbook fact; George 1973);
+    # with sides of at least 40% a diagonal cutting off a corner triangle (L²/2 ≥ 0.4 k² vertices,
+    # elementary geometry) may be shorter: L ≥ sqrt(0.8) k
     k = 60
     G = from_matrix(grid2d(k))
     sep = vertex_separator(G.indptr, G.indices, seed=0)
-    assert k <= sep.sizes[2] <= 1.15 * k
+    assert np.sqrt(0.8) * k - 1 <= sep.sizes[2] <= 1.15 * k
 
 
 def test_split_vector_window_on_path():

@@ -155,7 +155,7 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, bala
                       leaf_order: str = "auto", coarse_size: int = 100, eigenvectors: int = 2,
                       spectral_min: int = 2000, trials: int | None = None, trials_min: int = 0,
                       ratio_key: bool = False, top_trials: int | None = None, top_fraction: float = 0.1,
-                      **options):
+                      keep: int | None = None, smooth: int | None = None, **options):
     """Nested dissection ordering with multilevel spectral vertex separators.
 
     Parameters
@@ -186,6 +186,10 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, bala
     top_trials, top_fraction : int, float
         Subproblems with at least ``top_fraction · n`` vertices (the top separators, which decide
         most of the operations) get ``top_trials`` trials. Default: 6, or 2 above 300 000 vertices.
+    keep, smooth : int, optional
+        Passed to :func:`reorder.separators.vertex_separator` (coarse candidates carried to the
+        finest level; smoothing steps per level of the interpolated eigenvectors). Default 3 and 4;
+        above 300 000 vertices only the top subproblems use them (1 and 0 below, for time).
 
     Returns
     -------
@@ -204,12 +208,19 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, bala
         trials = 1 if big else 2
     if top_trials is None:
         top_trials = 2 if big else 6
+    top_keep = 3 if keep is None else int(keep)
+    top_smooth = 4 if smooth is None else int(smooth)
+    if keep is None:
+        keep = 1 if big else 3
+    if smooth is None:
+        smooth = 0 if big else 4
     with _single_thread_blas():
         return _nested_dissection(graph, seed=seed, leaf_size=leaf_size, balance=balance, multilevel=multilevel,
                                   refine=refine, split=split, leaf_order=leaf_order, coarse_size=coarse_size,
                                   eigenvectors=eigenvectors, spectral_min=spectral_min, trials=trials,
                                   trials_min=trials_min, ratio_key=ratio_key,
-                                  top_trials=top_trials, top_fraction=top_fraction)
+                                  top_trials=top_trials, top_fraction=top_fraction,
+                                  keep=(int(keep), top_keep), smooth=(int(smooth), top_smooth))
 
 
 def _single_thread_blas():
@@ -226,7 +237,7 @@ def _single_thread_blas():
 
 def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, split, leaf_order, coarse_size,
                        eigenvectors, spectral_min, trials, trials_min, ratio_key, top_trials,
-                       top_fraction):
+                       top_fraction, keep=(1, 1), smooth=(0, 0)):
     n = graph.n
     leaf_size = max(int(leaf_size), 2)
     perm = np.full(n, -1, dtype=np.int64)
@@ -273,12 +284,14 @@ def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, s
                 continue
         part, best = None, None
         ntr = max(1, int(trials)) if m >= trials_min else 1
-        if m >= top_fraction * n:
+        top = m >= top_fraction * n
+        if top:
             ntr = max(ntr, int(top_trials))
         for t in range(ntr):
             sep = vertex_separator(ip, ix, seed=_seed(seed + 7 * t, len(nodes)), balance=balance,
                                    multilevel=multilevel, refine=refine, mode=split, coarse_size=coarse_size,
-                                   eigenvectors=eigenvectors, spectral_min=spectral_min)
+                                   eigenvectors=eigenvectors, spectral_min=spectral_min,
+                                   keep=keep[top], smooth=smooth[top])
             a, b, c = sep.sizes
             ok = c > 0 and a > 0 and b > 0
             key = (ok, -c * (a + b) ** 2 / max(4.0 * a * b, 1.0), -abs(a - b)) if ratio_key else (ok, -c, -abs(a - b))
