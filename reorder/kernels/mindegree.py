@@ -14,6 +14,9 @@ Published ingredients, written from their descriptions:
 * approximate external degrees, hash-based supervariable detection and aggressive absorption:
   P. R. Amestoy, T. A. Davis and I. S. Duff, "An approximate minimum degree ordering algorithm",
   SIAM J. Matrix Anal. Appl. 17 (1996) 886–905;
+* exact external degrees updated once per stage of multiple elimination: J. W. H. Liu,
+  "Modification of the minimum-degree algorithm by multiple elimination", ACM Trans. Math.
+  Software 11 (1985) 141–153;
 * halo vertices that take part in degrees but are never eliminated: F. Pellegrini, J. Roman and
   P. Amestoy, "Hybridizing nested dissection and halo approximate minimum degree for efficient sparse
   matrix ordering", Concurrency: Practice and Experience 12 (2000) 69–84.
@@ -217,7 +220,7 @@ def _compact(ws, used, state, start, length, keep):
 
 
 @njit(cache=True)
-def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0):
+def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False):
     """Order the vertices with ``role == 1`` by approximate minimum external degree.
 
     Parameters
@@ -245,20 +248,29 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         degree with multiple elimination (Liu 1985): pivots of degree at most the stage's least
         degree plus ``delta`` that are not adjacent to an element made in the same stage are
         eliminated one after another, and the exact degrees of their neighbours are recomputed
-        once, at the end of the stage.
+        once, at the end of the stage (a vertex whose approximate degree exceeds four times the
+        stage's degree plus 64 keeps the approximate one). ``4``: as ``3``, ties of equal degree
+        broken towards the larger adjacent element (binary heap). ``5``: the score of ``1`` from
+        the exact degree and the exact largest adjacent element, in stages as for ``3`` (a stage
+        takes pivots of the stage's least score).
     delta : int
-        Degree tolerance of a multiple-elimination stage (``score == 3`` only).
+        Degree tolerance of a multiple-elimination stage (``score >= 3`` only); a negative value
+        ``-1 - t`` means tolerance ``t`` with the stage-end updates done in reverse order.
+    compress : bool
+        Merge vertices with identical closed neighbourhoods into supervariables before the first
+        elimination (e.g. the dofs of one node of an elasticity mesh), so that their degrees are
+        external degrees from the start.
 
     Returns
     -------
     order : int64 array
         The vertices with ``role == 1`` in elimination order.
     counters : int64 array
-        ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace]``.
+        ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace, merged_initially]``.
     group : int64 array
-        ``group[k]`` is the pivot step that eliminated ``order[k]``; the vertices of one step
-        (the pivot's supervariable and the vertices mass-eliminated with it) are indistinguishable
-        then, so any order among them gives the same factor.
+        ``group[k] = 2 t`` if ``order[k]`` was mass-eliminated at pivot step ``t``, ``2 t + 1`` if
+        it belongs to that step's pivot supervariable (whose members are indistinguishable: any
+        order among them gives the same factor).
     """
     # ---- workspace: adjacency without left-out vertices and without halo-halo edges
     nnz = 0
@@ -310,7 +322,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     plist = np.empty(n, dtype=np.int64)
     npend = 0
     stagedeg = 0
-    counters = np.zeros(6, dtype=np.int64)
+    counters = np.zeros(7, dtype=np.int64)
 
     used = 0
     nleft = 0  # weight of variables not yet eliminated (halo included)
@@ -332,16 +344,73 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         nleft += 1
         if role[v] == 1:
             ntodo += 1
+    tock = 0  # stamp for list comparison
+    if compress:
+        # initial supervariables: hash of the closed neighbourhood, then an exact comparison
+        for v in range(n):
+            if role[v] != 1:
+                continue
+            h = v
+            for p in range(start[v], start[v] + length[v]):
+                h += ws[p]
+            hkey[v] = h
+            b = h % n
+            hnext[v] = hhead[b]
+            hhead[b] = v
+        for v in range(n):
+            if role[v] != 1:
+                continue
+            b = hkey[v] % n
+            a = hhead[b]
+            if a == -1:
+                continue
+            hhead[b] = -1
+            while a != -1:
+                if state[a] != _VAR:
+                    a = hnext[a]
+                    continue
+                tock += 1
+                flag[a] = tock
+                for p in range(start[a], start[a] + length[a]):
+                    flag[ws[p]] = tock
+                prev = a
+                c = hnext[a]
+                while c != -1:
+                    cn = hnext[c]
+                    same = hkey[c] == hkey[a] and length[c] == length[a] and flag[c] == tock
+                    if same:
+                        for p in range(start[c], start[c] + length[c]):
+                            x = ws[p]
+                            if x != a and flag[x] != tock:
+                                same = False
+                                break
+                    if same:
+                        wt[a] += 1
+                        wt[c] = 0
+                        state[c] = _DEAD
+                        length[c] = 0
+                        mnext[mlast[a]] = c
+                        mlast[a] = mlast[c]
+                        counters[2] += 1
+                        counters[6] += 1
+                        hnext[prev] = cn
+                    else:
+                        prev = c
+                    c = cn
+                a = hnext[a]
+        for v in range(n):
+            if state[v] == _VAR:
+                deg[v] = length[v] - (wt[v] - 1)
     for k in range(n):
         v = tie[k] if fifo else tie[n - 1 - k]
-        if role[v] == 1:
+        if role[v] == 1 and state[v] == _VAR:
             if score == 4 or score == 5:
-                hval[v] = deg[v] + 0.5 if score == 4 else _fill_score(deg[v], 0, 1)
+                hval[v] = deg[v] + 0.5 if score == 4 else _fill_score(deg[v], 0, wt[v])
                 hseq[v] = seq
                 seq += 1
                 hsize = _heap_push(v, hsize, heap, hpos, hval, hseq)
             elif useheap:
-                hval[v] = _fill_score(deg[v], 0, 1)
+                hval[v] = _fill_score(deg[v], 0, wt[v])
                 hseq[v] = seq
                 seq += 1
                 hsize = _heap_push(v, hsize, heap, hpos, hval, hseq)
@@ -352,7 +421,6 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     nel = 0
     npiv = 0
     tick = 0  # stamp for wext
-    tock = 0  # stamp for list comparison
     while nel < ntodo:
         # ---- pivot: a variable of least approximate external degree
         if exact and npend > 0:
@@ -663,8 +731,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             state[me] = _DEAD
 
     # ---- the order: per pivot, the vertices mass-eliminated with it, then its supervariable.
-    # (A mass-eliminated vertex lies in the pivot's clique, so either order of the two gives the
-    # same factor; putting the pivot last keeps a hub of an arrow last.)
+    # (A mass-eliminated vertex has no neighbour outside the pivot's clique, so placing it first
+    # never costs more than placing it after the pivot.)
     out = np.empty(ntodo, dtype=np.int64)
     group = np.empty(ntodo, dtype=np.int64)
     k = 0
@@ -672,13 +740,13 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         v = xfirst[pivots[t]]
         while v != -1:
             out[k] = v
-            group[k] = t
+            group[k] = 2 * t
             k += 1
             v = mnext[v]
         v = pivots[t]
         while v != -1:
             out[k] = v
-            group[k] = t
+            group[k] = 2 * t + 1
             k += 1
             v = mnext[v]
     counters[0] = npiv

@@ -27,10 +27,18 @@ AUTO_TRY_ALL = 200_000
 #: factor is dense: 5 s per run on a 20,000-vertex power-law graph)
 AUTO_EXACT_MAX_N = 50_000
 AUTO_EXACT_MAX_FILL = 300
-# (score, reversed tie order, delta); delta < 0: stage-end updates in reverse order
-_AUTO_FAST = [(s, r, 0) for s in ("degree", "mean_fill", "fill") for r in (False, True)]
-_AUTO_EXACT = [("exact", True, -1), ("exact_mean_fill", True, -1), ("exact", True, 0), ("exact_mean_fill", False, 0)]
-_COUNTER_NAMES = ("pivots", "mass_eliminated", "merged", "absorbed", "compactions", "workspace")
+# (score, reversed tie order, delta, first-in first-out); delta < 0: stage-end updates in reverse
+# order. Each runs without and, where the graph has indistinguishable vertices, with initial
+# supervariable detection.
+_AUTO_FAST = [(s, r, 0, False) for s in ("degree", "mean_fill", "fill") for r in (False, True)]
+_AUTO_EXACT = [
+    ("exact", True, -1, False),
+    ("exact_mean_fill", True, -1, False),
+    ("exact", True, 0, False),
+    ("exact_mean_fill", False, 0, False),
+    ("exact", True, 1, True),
+]
+_COUNTER_NAMES = ("pivots", "mass_eliminated", "merged", "absorbed", "compactions", "workspace", "merged_initially")
 
 
 def _tie_order(n: int, seed: int, reverse: bool = False) -> np.ndarray:
@@ -49,7 +57,7 @@ def _dense_flags(graph: Graph, role: np.ndarray, dense: float) -> np.ndarray:
     return (np.diff(graph.indptr) > limit) & (role == 1)
 
 
-def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bool, fifo: bool, elbow: float, score: int = 0, delta: int = 0, reverse: bool = False):
+def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bool, fifo: bool, elbow: float, score: int = 0, delta: int = 0, reverse: bool = False, compress: bool = False):
     n = graph.n
     heavy = _dense_flags(graph, role, dense)
     nheavy = int(np.count_nonzero(heavy))
@@ -67,11 +75,12 @@ def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bo
         float(elbow),
         int(score),
         int(delta),
+        bool(compress),
     )
-    # within a step's group (indistinguishable vertices: any order gives the same factor) put the
-    # vertices of larger original degree last, e.g. the hub of an arrow
+    # members of one pivot supervariable are indistinguishable (any order among them gives the same
+    # factor): put those of larger original degree last, e.g. the hub of an arrow
     degree = np.diff(graph.indptr)
-    order = order[np.lexsort((degree[order], group))]
+    order = order[np.lexsort((np.where(group & 1, degree[order], np.arange(order.size)), group))]
     if nheavy:
         # postponed rows go last, lightest first (ties by vertex number)
         ids = np.flatnonzero(heavy)
@@ -105,14 +114,32 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
     aggressive : bool
         Absorb every element whose variables all lie in the new element (not only the adjacent
         ones).
-    score : {"auto", "degree", "mean_fill", "fill"}, optional
+    score : {"auto", "degree", "mean_fill", "fill", "exact", "exact_fill", "exact_mean_fill"}, optional
         Pivot rule. ``"degree"``: least approximate external degree. ``"mean_fill"``: least
         approximate local fill per column of the supervariable (Rothberg & Eisenstat 1998).
         ``"fill"``: that fill divided by the square root of the supervariable size (our variant).
-        ``"auto"`` (default): on graphs up to ``AUTO_TRY_ALL`` vertices run all three and keep the
-        one with the least nnz(L) (exact symbolic count), on larger graphs ``"fill"``.
+        ``"exact"``: least exact external degree with multiple elimination (Liu 1985): within a
+        stage, independent pivots of the stage's least degree (plus ``delta``) are eliminated, and
+        the exact degrees of their neighbours are computed once at the stage's end (vertices whose
+        approximate degree is far above the least keep the approximate one). ``"exact_fill"``: the
+        same, ties of equal degree broken towards the larger adjacent element.
+        ``"exact_mean_fill"``: the mean-fill score from exact degrees and element sizes, in stages.
+        ``"auto"`` (default): on graphs up to ``AUTO_TRY_ALL`` vertices run ``"degree"``,
+        ``"mean_fill"`` and ``"fill"`` with the given and the reversed tie order, and, up to
+        ``AUTO_EXACT_MAX_N`` vertices where the factor is not too dense, five exact-degree
+        variants; all of them with and (where vertices merge initially) without initial
+        supervariables; keep the least nnz(L) (exact symbolic count). On larger graphs
+        ``"fill"`` with initial supervariables.
     fifo : bool, optional
         Degree buckets first-in first-out (default False: last-in first-out).
+    reverse : bool, optional
+        Break ties by the reversed tie order (explicit ``score`` only).
+    delta : int, optional
+        Degree tolerance of a multiple-elimination stage (exact rules only; default 0). A negative
+        value ``-1 - t`` means tolerance ``t`` with the stage-end updates in reverse order.
+    compress : bool or "auto", optional
+        Merge vertices with identical closed neighbourhoods into supervariables before the first
+        elimination (default: ``"auto"`` with ``score="auto"``, which tries both, else False).
     elbow : float, optional
         Extra workspace as a fraction of the stored entries (default 0.2); the workspace is
         compacted when it runs full and grows only if compaction is not enough.
@@ -122,11 +149,15 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
     perm : ndarray of int64
         New position ``k`` holds old vertex ``perm[k]``.
     info : dict
-        Counts of pivots, mass-eliminated and merged vertices, absorbed elements, workspace
-        compactions, and postponed dense vertices.
+        Counts of pivots, mass-eliminated and merged vertices (``merged_initially`` of them
+        before the first elimination), absorbed elements, workspace compactions, and postponed
+        dense vertices; with several candidates, ``score`` names the one kept and
+        ``nnz_factor_by_score`` lists nnz(L) of each.
 
     References
     ----------
+    J. W. H. Liu, "Modification of the minimum-degree algorithm by multiple elimination", ACM
+    Trans. Math. Software 11 (1985) 141–153 (exact degrees, multiple elimination).
     E. Rothberg and S. C. Eisenstat, "Node selection strategies for bottom-up sparse matrix
     ordering", SIAM J. Matrix Anal. Appl. 19 (1998) 682–695 (approximate fill scores).
     A. George and J. W. H. Liu, "The evolution of the minimum degree ordering algorithm", SIAM Review
@@ -139,33 +170,43 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
     score = options.get("score", "auto")
     fifo = bool(options.get("fifo", False))
     if score == "auto":
-        runs = _AUTO_FAST if n <= AUTO_TRY_ALL else [("fill", False, 0)]
+        runs = _AUTO_FAST if n <= AUTO_TRY_ALL else [("fill", False, 0, fifo)]
     elif score in _SCORES:
-        runs = [(score, bool(options.get("reverse", False)), int(options.get("delta", 0)))]
+        runs = [(score, bool(options.get("reverse", False)), int(options.get("delta", 0)), fifo)]
     else:
         raise ValueError(f"score must be one of {', '.join(list(_SCORES) + ['auto'])}, not {score!r}")
     role = np.ones(n, dtype=np.int8)
     elbow = float(options.get("elbow", 0.2))
+    # initial supervariables: both ways in "auto" on graphs up to AUTO_TRY_ALL vertices, always above
+    compress = options.get("compress", ("auto" if n <= AUTO_TRY_ALL else True) if score == "auto" else False)
     best = None
     tried = {}
 
-    def attempt(name, reverse, delta):
+    def attempt(name, reverse, delta, fifo, comp):
         nonlocal best
-        perm, info = _run(graph, role, seed, dense, aggressive, fifo, elbow, _SCORES[name], delta, reverse)
-        if len(runs) == 1:
+        perm, info = _run(graph, role, seed, dense, aggressive, fifo, elbow, _SCORES[name], delta, reverse, comp)
+        if len(runs) == 1 and compress != "auto":
             best = (perm, info, name, 0)
-            return
+            return info
         nnz_l = symbolic_factor(graph, perm).nnz_factor
-        label = name + ("/reverse" if reverse else "") + ("/late" if delta < 0 else "")
+        label = name + ("/reverse" if reverse else "") + (f"/delta{delta}" if delta else "")
+        label += ("/fifo" if fifo else "") + ("/compressed" if comp else "")
         tried[label] = nnz_l
         if best is None or nnz_l < best[3]:
             best = (perm, info, label, nnz_l)
+        return info
 
-    for run in runs:
-        attempt(*run)
-    if score == "auto" and n <= AUTO_EXACT_MAX_N and best[3] <= AUTO_EXACT_MAX_FILL * n:
-        for run in _AUTO_EXACT:
-            attempt(*run)
+    # with compress="auto", the compressed variants run only where some vertices merge initially
+    variants = [False, True] if compress == "auto" else [bool(compress)]
+    for comp in variants:
+        for k, run in enumerate(runs):
+            info = attempt(*run, comp)
+            if comp and k == 0 and info["merged_initially"] == 0:
+                break
+        else:
+            if score == "auto" and n <= AUTO_EXACT_MAX_N and best[3] <= AUTO_EXACT_MAX_FILL * n:
+                for run in _AUTO_EXACT:
+                    attempt(*run, comp)
     perm, info, name, _ = best
     info["score"] = name
     if tried:
