@@ -150,11 +150,11 @@ def _pack_components(labels: np.ndarray, ncomp: int, leaf_size: int) -> list[np.
 
 @register("nd", summary="nested dissection: multilevel spectral vertex separators, minimum-degree leaves",
           split_components=False, rank=40)
-def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, balance: float = 0.3,
+def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = None, balance: float = 0.3,
                       multilevel: bool = True, refine: bool = True, split: str = "window",
                       leaf_order: str = "auto", coarse_size: int = 100, eigenvectors: int = 2,
-                      spectral_min: int = 2000, trials: int | None = None, trials_min: int = 0,
-                      ratio_key: bool = False, top_trials: int | None = None, top_fraction: float = 0.1,
+                      spectral_min: int = 500, trials: int | None = None, trials_min: int = 0,
+                      ratio_key: bool = True, top_trials: int | None = None, top_fraction: float = 0.1,
                       keep: int | None = None, smooth: int | None = None, **options):
     """Nested dissection ordering with multilevel spectral vertex separators.
 
@@ -164,8 +164,9 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, bala
         Any graph; components are handled here.
     seed : int
         Seeds the coarsening and eigensolvers (same seed, same permutation).
-    leaf_size : int
-        Subgraphs with at most this many vertices are not split further.
+    leaf_size : int, optional
+        Subgraphs with at most this many vertices are not split further. Default 100, or 200
+        above 300 000 vertices (time).
     balance : float
         Balance window of each bisection: no side lighter than about ``balance`` of the subgraph.
     multilevel, refine : bool
@@ -185,11 +186,11 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, bala
         Subproblems smaller than this use one trial.
     top_trials, top_fraction : int, float
         Subproblems with at least ``top_fraction · n`` vertices (the top separators, which decide
-        most of the operations) get ``top_trials`` trials. Default: 6, or 2 above 300 000 vertices.
+        most of the operations) get ``top_trials`` trials. Default: 6, or 1 above 300 000 vertices.
     keep, smooth : int, optional
         Passed to :func:`reorder.separators.vertex_separator` (coarse candidates carried to the
         finest level; smoothing steps per level of the interpolated eigenvectors). Default 3 and 4;
-        above 300 000 vertices only the top subproblems use them (1 and 0 below, for time).
+        above 300 000 vertices only the top subproblems use them (2 and 4; 1 and 0 below, for time).
 
     Returns
     -------
@@ -207,8 +208,10 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int = 200, bala
     if trials is None:
         trials = 1 if big else 2
     if top_trials is None:
-        top_trials = 2 if big else 6
-    top_keep = 3 if keep is None else int(keep)
+        top_trials = 1 if big else 6
+    if leaf_size is None:
+        leaf_size = 200 if big else 100
+    top_keep = (2 if big else 3) if keep is None else int(keep)
     top_smooth = 4 if smooth is None else int(smooth)
     if keep is None:
         keep = 1 if big else 3
