@@ -19,12 +19,12 @@ from . import register
 __all__ = ["minimum_degree", "halo_minimum_degree"]
 
 _SCORES = {"degree": 0, "mean_fill": 1, "fill": 2, "exact": 3, "exact_fill": 4, "exact_mean_fill": 5}
-#: up to this many vertices ``score="auto"`` tries the approximate-degree rules, each with the
-#: given and the reversed tie order, and keeps the least nnz(L)
+#: up to this many vertices ``score="auto"`` tries the approximate-degree rules and keeps the
+#: least nnz(L)
 AUTO_TRY_ALL = 200_000
-#: exact-degree rules join ``"auto"`` up to this many vertices, and only where the best factor so
-#: far has at most ``AUTO_EXACT_MAX_FILL`` entries per row (exact degrees cost more where the
-#: factor is dense: 5 s per run on a 20,000-vertex power-law graph)
+#: reversed tie orders and exact-degree rules join ``"auto"`` up to this many vertices, the latter
+#: only where the best factor so far has at most ``AUTO_EXACT_MAX_FILL`` entries per row (exact
+#: degrees cost more where the factor is dense: 5 s per run on a 20,000-vertex power-law graph)
 AUTO_EXACT_MAX_N = 50_000
 AUTO_EXACT_MAX_FILL = 300
 # (score, reversed tie order, delta, first-in first-out); delta < 0: stage-end updates in reverse
@@ -125,8 +125,8 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
         same, ties of equal degree broken towards the larger adjacent element.
         ``"exact_mean_fill"``: the mean-fill score from exact degrees and element sizes, in stages.
         ``"auto"`` (default): on graphs up to ``AUTO_TRY_ALL`` vertices run ``"degree"``,
-        ``"mean_fill"`` and ``"fill"`` with the given and the reversed tie order, and, up to
-        ``AUTO_EXACT_MAX_N`` vertices where the factor is not too dense, five exact-degree
+        ``"mean_fill"`` and ``"fill"``, and, up to ``AUTO_EXACT_MAX_N`` vertices, each also with
+        the reversed tie order and, where the factor is not too dense, five exact-degree
         variants; all of them with and (where vertices merge initially) without initial
         supervariables; keep the least nnz(L) (exact symbolic count). On larger graphs
         ``"fill"`` with initial supervariables.
@@ -170,7 +170,12 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
     score = options.get("score", "auto")
     fifo = bool(options.get("fifo", False))
     if score == "auto":
-        runs = _AUTO_FAST if n <= AUTO_TRY_ALL else [("fill", False, 0, fifo)]
+        if n <= AUTO_EXACT_MAX_N:
+            runs = _AUTO_FAST
+        elif n <= AUTO_TRY_ALL:
+            runs = [run for run in _AUTO_FAST if not run[1]]  # given tie order only
+        else:
+            runs = [("fill", False, 0, fifo)]
     elif score in _SCORES:
         runs = [(score, bool(options.get("reverse", False)), int(options.get("delta", 0)), fifo)]
     else:
