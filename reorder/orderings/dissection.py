@@ -153,7 +153,7 @@ def _pack_components(labels: np.ndarray, ncomp: int, leaf_size: int) -> list[np.
 def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = None, balance: float = 0.3,
                       multilevel: bool = True, refine: bool = True, split: str = "window",
                       leaf_order: str = "auto", coarse_size: int = 100, eigenvectors: int = 2,
-                      spectral_min: int = 500, trials: int | None = None, trials_min: int = 0,
+                      spectral_min: int | None = None, trials: int | None = None, trials_min: int = 0,
                       ratio_key: bool = True, top_trials: int | None = None, top_fraction: float = 0.1,
                       keep: int | None = None, smooth: int | None = None, **options):
     """Nested dissection ordering with multilevel spectral vertex separators.
@@ -166,7 +166,7 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         Seeds the coarsening and eigensolvers (same seed, same permutation).
     leaf_size : int, optional
         Subgraphs with at most this many vertices are not split further. Default 100, or 200
-        above 300 000 vertices (time).
+        above 100 000 vertices (time).
     balance : float
         Balance window of each bisection: no side lighter than about ``balance`` of the subgraph.
     multilevel, refine : bool
@@ -177,7 +177,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     leaf_order : {"auto", "halo", "mindegree", "rcm"}
         Ordering of the leaves (see :func:`order_blocks`).
     coarse_size, eigenvectors, spectral_min : int
-        Passed to :func:`reorder.separators.vertex_separator`.
+        Passed to :func:`reorder.separators.vertex_separator` (``spectral_min`` default 500, or
+        2000 above 100 000 vertices: the eigensolver call per small subproblem costs time).
     trials : int, optional
         Separators computed per subproblem (different seeds; the smallest is kept, or the best
         separator-versus-balance ratio with ``ratio_key``). Default: 2 for graphs up to 300 000
@@ -190,7 +191,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     keep, smooth : int, optional
         Passed to :func:`reorder.separators.vertex_separator` (coarse candidates carried to the
         finest level; smoothing steps per level of the interpolated eigenvectors). Default 3 and 4;
-        above 300 000 vertices only the top subproblems use them (2 and 4; 1 and 0 below, for time).
+        1 and 0 above 100 000 vertices (time: smoothing five vectors on the top levels of a 10⁶ grid
+        costs 4 s).
 
     Returns
     -------
@@ -204,15 +206,17 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     George (1973); Lipton, Rose & Tarjan (1979); Pothen, Simon & Liou (1990); Hendrickson & Rothberg
     (1998); S. T. Barnard and H. D. Simon, Concurrency: Pract. Exper. 6 (1994) 101–117.
     """
-    big = graph.n > 300_000
+    big = graph.n > 100_000
     if trials is None:
-        trials = 1 if big else 2
+        trials = 1 if graph.n > 300_000 else 2
     if top_trials is None:
-        top_trials = 1 if big else 6
+        top_trials = 1 if graph.n > 300_000 else 6
+    if spectral_min is None:
+        spectral_min = 2000 if big else 500
     if leaf_size is None:
         leaf_size = 200 if big else 100
-    top_keep = (2 if big else 3) if keep is None else int(keep)
-    top_smooth = 4 if smooth is None else int(smooth)
+    top_keep = (1 if big else 3) if keep is None else int(keep)
+    top_smooth = (0 if big else 4) if smooth is None else int(smooth)
     if keep is None:
         keep = 1 if big else 3
     if smooth is None:
