@@ -77,7 +77,7 @@ class Level:
     indptr: np.ndarray
     indices: np.ndarray
     ewgt: np.ndarray
-    vwgt: np.ndarray
+    vweight: np.ndarray
     cmap: np.ndarray | None = None
 
     @property
@@ -95,7 +95,7 @@ def _max_side(total: int, balance: float) -> int:
 
 
 def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = 128, min_ratio: float = 0.9,
-            ewgt=None, vwgt=None, sorted_visit: bool = False) -> list[Level]:
+            ewgt=None, vweight=None, sorted_visit: bool = False) -> list[Level]:
     """Multilevel hierarchy by repeated heavy-edge matching until at most ``coarse_size`` vertices
     remain (or a matching shrinks the graph by less than ``1 - min_ratio``).
 
@@ -107,7 +107,7 @@ def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = 128, min_ratio
         Seeds the random visiting order of the matching (``np.random.default_rng(seed)``).
     coarse_size : int
     min_ratio : float
-    ewgt, vwgt : ndarray of int64, optional
+    ewgt, vweight : ndarray of int64, optional
         Edge and vertex weights (ones if omitted).
 
     Returns
@@ -122,27 +122,27 @@ def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = 128, min_ratio
     """
     n = indptr.size - 1
     ewgt = np.ones(indices.size, dtype=np.int64) if ewgt is None else np.asarray(ewgt, dtype=np.int64)
-    vwgt = np.ones(n, dtype=np.int64) if vwgt is None else np.asarray(vwgt, dtype=np.int64)
+    vweight = np.ones(n, dtype=np.int64) if vweight is None else np.asarray(vweight, dtype=np.int64)
     rng = np.random.default_rng(seed)
-    total = int(vwgt.sum())
+    total = int(vweight.sum())
     maxv = max(2, int(1.5 * total / max(coarse_size, 1)))
     levels = []
-    cur = Level(indptr, indices, ewgt, vwgt)
+    cur = Level(indptr, indices, ewgt, vweight)
     while cur.n > coarse_size:
         visit = rng.permutation(cur.n).astype(np.int64)
         if sorted_visit:
             visit = visit[np.argsort(np.diff(cur.indptr)[visit], kind="stable")]
-        nc, cmap, match = _k.heavy_edge_matching(cur.indptr, cur.indices, cur.ewgt, cur.vwgt, visit, maxv)
+        nc, cmap, match = _k.heavy_edge_matching(cur.indptr, cur.indices, cur.ewgt, cur.vweight, visit, maxv)
         if nc > min_ratio * cur.n:
             break
-        ci, cj, cw, cv = _k.contract(cur.indptr, cur.indices, cur.ewgt, cur.vwgt, cmap, match, nc)
-        levels.append(Level(cur.indptr, cur.indices, cur.ewgt, cur.vwgt, cmap))
+        ci, cj, cw, cv = _k.contract(cur.indptr, cur.indices, cur.ewgt, cur.vweight, cmap, match, nc)
+        levels.append(Level(cur.indptr, cur.indices, cur.ewgt, cur.vweight, cmap))
         cur = Level(ci, cj, cw, cv)
     levels.append(cur)
     return levels
 
 
-def split_vector(indptr, indices, vector, *, ewgt=None, vwgt=None, balance: float = 0.4,
+def split_vector(indptr, indices, vector, *, ewgt=None, vweight=None, balance: float = 0.4,
                  mode: str = "window") -> tuple[np.ndarray, int]:
     """Two-way split of the vertices by a vector (e.g. a Fiedler vector).
 
@@ -164,10 +164,10 @@ def split_vector(indptr, indices, vector, *, ewgt=None, vwgt=None, balance: floa
     """
     n = indptr.size - 1
     ewgt = np.ones(indices.size, dtype=np.int64) if ewgt is None else ewgt
-    vwgt = np.ones(n, dtype=np.int64) if vwgt is None else vwgt
+    vweight = np.ones(n, dtype=np.int64) if vweight is None else vweight
     order = np.argsort(np.asarray(vector, dtype=np.float64), kind="stable").astype(np.int64)
     cut = _k.sweep_cuts(indptr, indices, ewgt, order)
-    cw = np.concatenate(([0], np.cumsum(vwgt[order])))
+    cw = np.concatenate(([0], np.cumsum(vweight[order])))
     total = cw[-1]
     if mode == "median":
         k = int(np.searchsorted(cw, total / 2.0))
@@ -189,7 +189,7 @@ def split_vector(indptr, indices, vector, *, ewgt=None, vwgt=None, balance: floa
     return part, int(cut[k])
 
 
-def cover_separator(indptr, indices, part, *, vwgt=None) -> np.ndarray:
+def cover_separator(indptr, indices, part, *, vweight=None) -> np.ndarray:
     """Turn a two-way split into a vertex separator by a minimum vertex cover of the cut edges.
 
     The cut edges form a bipartite graph; a maximum matching (SciPy's
@@ -214,15 +214,15 @@ def cover_separator(indptr, indices, part, *, vwgt=None) -> np.ndarray:
     rm = np.asarray(maximum_bipartite_matching(B, perm_type="column"), dtype=np.int64)
     rc, cc = _k.konig_cover(bptr, bind, rm, cols.size)
     sep = np.concatenate((rows[rc], cols[cc]))
-    if vwgt is not None:
+    if vweight is not None:
         options = [sep, rows, cols]
-        wts = [int(vwgt[s].sum()) for s in options]
+        wts = [int(vweight[s].sum()) for s in options]
         sep = options[int(np.argmin(wts))]
     part[sep] = 2
     return part
 
 
-def refine_separator(indptr, indices, part, *, vwgt=None, balance: float = 0.4, passes: int = 8,
+def refine_separator(indptr, indices, part, *, vweight=None, balance: float = 0.4, passes: int = 8,
                      limit: int | None = None) -> np.ndarray:
     """Improve a vertex separator in place by Fiduccia–Mattheyses vertex moves under the balance
     window (no side heavier than ``floor((1 - balance) · W)``).
@@ -235,11 +235,11 @@ def refine_separator(indptr, indices, part, *, vwgt=None, balance: float = 0.4, 
     19th Design Automation Conference (1982); Ashcraft & Liu (1994); Hendrickson & Rothberg (1998).
     """
     n = indptr.size - 1
-    vwgt = np.ones(n, dtype=np.int64) if vwgt is None else vwgt
-    total = int(vwgt.sum())
+    vweight = np.ones(n, dtype=np.int64) if vweight is None else vweight
+    total = int(vweight.sum())
     if limit is None:
         limit = int(min(max(25, n // 100), 150)) if _LIMIT is None else _LIMIT
-    return _k.vertex_fm(indptr, indices, vwgt, part, _max_side(total, balance), passes, limit)
+    return _k.vertex_fm(indptr, indices, vweight, part, _max_side(total, balance), passes, limit)
 
 
 def _pseudo_peripheral_distance(indptr, indices):
@@ -362,7 +362,7 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     else:
         levels = [Level(indptr, indices, np.ones(indices.size, dtype=np.int64), np.ones(n, dtype=np.int64))]
     c = levels[-1]
-    total = int(c.vwgt.sum())
+    total = int(c.vweight.sum())
     maxside = _max_side(total, balance)
     info = {}
     vecs = []
@@ -379,16 +379,16 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
             vecs.append(_k.bfs_levels(c.indptr, c.indices, s0).astype(np.float64))
     cands = []
     for j, vec in enumerate(vecs):
-        p2, _ = split_vector(c.indptr, c.indices, vec, ewgt=c.ewgt, vwgt=c.vwgt, balance=balance, mode=mode)
+        p2, _ = split_vector(c.indptr, c.indices, vec, ewgt=c.ewgt, vweight=c.vweight, balance=balance, mode=mode)
         if j < nspectral or not refine:
-            part = cover_separator(c.indptr, c.indices, p2, vwgt=c.vwgt if multilevel else None)
+            part = cover_separator(c.indptr, c.indices, p2, vweight=c.vweight if multilevel else None)
         else:  # breadth-first candidates on the cheap path: one-sided boundary, FM does the rest
             part = p2
-            _k.boundary_cover(c.indptr, c.indices, part, c.vwgt)
+            _k.boundary_cover(c.indptr, c.indices, part, c.vweight)
         if refine:
-            w = refine_separator(c.indptr, c.indices, part, vwgt=c.vwgt, balance=balance)
+            w = refine_separator(c.indptr, c.indices, part, vweight=c.vweight, balance=balance)
         else:
-            w = np.bincount(part, weights=c.vwgt, minlength=3).astype(np.int64)
+            w = np.bincount(part, weights=c.vweight, minlength=3).astype(np.int64)
         key = _score(w, maxside)
         if any(np.array_equal(part, q) for _, _, q in cands):
             continue
@@ -413,7 +413,7 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
         for lev in reversed(levels[:-1]):
             part = part[lev.cmap]
             if refine:
-                w = refine_separator(lev.indptr, lev.indices, part, vwgt=lev.vwgt, balance=balance)
+                w = refine_separator(lev.indptr, lev.indices, part, vweight=lev.vweight, balance=balance)
         if len(levels) > 1:
             w = np.bincount(part, minlength=3)
             key = _score(w, _max_side(n, balance))

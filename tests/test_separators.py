@@ -97,7 +97,7 @@ def test_coarsen_preserves_weights():
     levels = coarsen(G.indptr, G.indices, seed=0, coarse_size=50)
     assert levels[-1].n <= 100
     for lev in levels:
-        assert lev.vwgt.sum() == G.n  # vertex weight is conserved by contraction
+        assert lev.vweight.sum() == G.n  # vertex weight is conserved by contraction
     # coarse edge weight = fine edges between different aggregates (each stored twice)
     f, c = levels[0], levels[1]
     rows = np.repeat(np.arange(f.n), np.diff(f.indptr))

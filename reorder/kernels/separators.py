@@ -2,7 +2,7 @@
 
 Plain NumPy arrays in and out; callers in :mod:`reorder.separators` validate. Graphs are CSR
 ``(indptr, indices)`` with optional edge weights ``ewgt`` (int64, aligned with ``indices``) and vertex
-weights ``vwgt`` (int64). A vertex partition ``part`` is int8 with 0 / 1 for the two sides and 2 for
+weights ``vweight`` (int64). A vertex partition ``part`` is int8 with 0 / 1 for the two sides and 2 for
 the separator.
 """
 
@@ -98,10 +98,10 @@ def bfs_levels(indptr, indices, start):
 
 
 @njit(cache=True)
-def heavy_edge_matching(indptr, indices, ewgt, vwgt, visit, maxvwgt):
+def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight):
     """Heavy-edge matching: visit vertices in ``visit`` order and match each unmatched vertex with
     the unmatched neighbour joined by the heaviest edge (ties: lighter neighbour, then lower index),
-    subject to the coarse vertex weight staying at most ``maxvwgt``.
+    subject to the coarse vertex weight staying at most ``maxvweight``.
 
     Returns ``(nc, cmap, match)``: number of coarse vertices, fine → coarse map (coarse vertices
     numbered in visiting order) and the mate of each vertex (itself if unmatched).
@@ -121,13 +121,13 @@ def heavy_edge_matching(indptr, indices, ewgt, vwgt, visit, maxvwgt):
             u = indices[p]
             if match[u] != -1 or u == v:
                 continue
-            if vwgt[u] + vwgt[v] > maxvwgt:
+            if vweight[u] + vweight[v] > maxvweight:
                 continue
             w = ewgt[p]
-            if w > bw or (w == bw and (vwgt[u] < bvw or (vwgt[u] == bvw and u < best))):
+            if w > bw or (w == bw and (vweight[u] < bvw or (vweight[u] == bvw and u < best))):
                 best = u
                 bw = w
-                bvw = vwgt[u]
+                bvw = vweight[u]
         if best == -1:
             match[v] = v
             cmap[v] = nc
@@ -141,7 +141,7 @@ def heavy_edge_matching(indptr, indices, ewgt, vwgt, visit, maxvwgt):
 
 
 @njit(cache=True)
-def contract(indptr, indices, ewgt, vwgt, cmap, match, nc):
+def contract(indptr, indices, ewgt, vweight, cmap, match, nc):
     """Coarse graph of a matching: vertex weights and parallel edge weights are summed."""
     n = indptr.size - 1
     rep = np.full(nc, -1, dtype=np.int64)
@@ -166,7 +166,7 @@ def contract(indptr, indices, ewgt, vwgt, cmap, match, nc):
                 u = match[v]
                 if u == v:
                     break
-            cvw[c] += vwgt[u]
+            cvw[c] += vweight[u]
             for p in range(indptr[u], indptr[u + 1]):
                 cu = cmap[indices[p]]
                 if cu == c:
@@ -304,7 +304,7 @@ def _viol(w0, w1, maxside):
 
 
 @njit(cache=True)
-def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
+def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
     """Fiduccia–Mattheyses refinement of a vertex separator, in place.
 
     A move takes a separator vertex ``v`` to side ``s``; its neighbours on the other side join the
@@ -318,7 +318,7 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
     n = indptr.size - 1
     w = np.zeros(3, dtype=np.int64)
     for v in range(n):
-        w[part[v]] += vwgt[v]
+        w[part[v]] += vweight[v]
     gain = np.zeros((2, n), dtype=np.int64)
     lock = np.full(n, -1, dtype=np.int64)
     moves = np.empty(n, dtype=np.int64)
@@ -332,14 +332,14 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
         for v in range(n):
             if part[v] != 2:
                 continue
-            g0 = vwgt[v]
-            g1 = vwgt[v]
+            g0 = vweight[v]
+            g1 = vweight[v]
             for p in range(indptr[v], indptr[v + 1]):
                 u = indices[p]
                 if part[u] == 1:
-                    g0 -= vwgt[u]
+                    g0 -= vweight[u]
                 elif part[u] == 0:
-                    g1 -= vwgt[u]
+                    g1 -= vweight[u]
             gain[0, v] = g0
             gain[1, v] = g1
             h0.append((-g0, v))
@@ -376,11 +376,11 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
             if len(h0) > 0:
                 v0 = h0[0][1]
                 g0 = gain[0, v0]
-                ok0 = w[0] + vwgt[v0] <= maxside
+                ok0 = w[0] + vweight[v0] <= maxside
             if len(h1) > 0:
                 v1 = h1[0][1]
                 g1 = gain[1, v1]
-                ok1 = w[1] + vwgt[v1] <= maxside
+                ok1 = w[1] + vweight[v1] <= maxside
             if not ok0 and not ok1:
                 break
             if ok0 and ok1:
@@ -400,8 +400,8 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
                 heapq.heappop(h1)
             other = 1 - to
             part[v] = to
-            w[2] -= vwgt[v]
-            w[to] += vwgt[v]
+            w[2] -= vweight[v]
+            w[to] += vweight[v]
             lock[v] = it
             moves[nm] = v
             mstart[nm] = npl
@@ -409,14 +409,14 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
             for p in range(indptr[v], indptr[v + 1]):
                 x = indices[p]
                 if part[x] == 2:
-                    gain[other, x] -= vwgt[v]
+                    gain[other, x] -= vweight[v]
             first = npl
             for p in range(indptr[v], indptr[v + 1]):
                 u = indices[p]
                 if part[u] == other:
                     part[u] = 2
-                    w[other] -= vwgt[u]
-                    w[2] += vwgt[u]
+                    w[other] -= vweight[u]
+                    w[2] += vweight[u]
                     pulled[npl] = u
                     npl += 1
             for q in range(first, npl):
@@ -424,17 +424,17 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
                 for p in range(indptr[u], indptr[u + 1]):
                     x = indices[p]
                     if part[x] == 2:
-                        gain[to, x] += vwgt[u]
+                        gain[to, x] += vweight[u]
             for q in range(first, npl):
                 u = pulled[q]
-                a = vwgt[u]
-                b = vwgt[u]
+                a = vweight[u]
+                b = vweight[u]
                 for p in range(indptr[u], indptr[u + 1]):
                     x = indices[p]
                     if part[x] == 1:
-                        a -= vwgt[x]
+                        a -= vweight[x]
                     elif part[x] == 0:
-                        b -= vwgt[x]
+                        b -= vweight[x]
                 gain[0, u] = a
                 gain[1, u] = b
             # push changed entries
@@ -474,11 +474,11 @@ def vertex_fm(indptr, indices, vwgt, part, maxside, passes, limit):
             for q in range(mstart[i], mstart[i + 1]):
                 u = pulled[q]
                 part[u] = other
-                w[2] -= vwgt[u]
-                w[other] += vwgt[u]
+                w[2] -= vweight[u]
+                w[other] += vweight[u]
             part[v] = 2
-            w[to] -= vwgt[v]
-            w[2] += vwgt[v]
+            w[to] -= vweight[v]
+            w[2] += vweight[v]
         if best_k == 0:
             break
     return w
@@ -499,7 +499,7 @@ def edges_cross(indptr, indices, part):
 
 
 @njit(cache=True)
-def boundary_cover(indptr, indices, part, vwgt):
+def boundary_cover(indptr, indices, part, vweight):
     """Cheap vertex separator from a two-way split, in place: the lighter of the two one-sided
     boundaries (vertices of one side with a neighbour on the other) becomes the separator."""
     n = indptr.size - 1
@@ -512,9 +512,9 @@ def boundary_cover(indptr, indices, part, vwgt):
             if part[indices[p]] == 1 - pv:
                 b[v] = True
                 if pv == 0:
-                    w0 += vwgt[v]
+                    w0 += vweight[v]
                 else:
-                    w1 += vwgt[v]
+                    w1 += vweight[v]
                 break
     side = 0 if w0 <= w1 else 1
     for v in range(n):
