@@ -264,3 +264,26 @@ def test_mutated_matrix_market_files(tmp_path_factory, data):
             assert "\n" not in str(exc)
         else:
             assert A.shape[0] == A.shape[1]
+
+
+@pytest.mark.parametrize("method", ["spectral", "nd", "rsb", "auto"])
+@pytest.mark.parametrize("operator", ["laplacian", "normalized"])
+def test_value_weights_with_nan_zero_and_isolated_rows(capsys, tmp_path, method, operator):
+    # NaN, Inf and explicit-zero values give no usable weight; zero-degree rows never reach the
+    # eigensolver. Every spectral method still returns a valid permutation and says what it did.
+    from conftest import grid2d
+    from reorder.io import write_matrix
+
+    A = sp.lil_matrix(sp.block_diag([grid2d(12), sp.csr_matrix((3, 3))]))
+    A[0, 1] = A[1, 0] = np.nan
+    A[5, 6] = A[6, 5] = np.inf
+    A[20, 21] = A[21, 20] = 0.0
+    m = tmp_path / "w.npz"
+    write_matrix(m, sp.csr_matrix(A))
+    out = tmp_path / "p.txt"
+    code, stdout, err = _run(capsys, "order", m, "-m", method, "-o", out, "--weights", "values",
+                             "--operator", operator, "--json")
+    assert code == 0, err
+    assert sorted(read_permutation(out, 147).tolist()) == list(range(147))
+    info = json.loads(stdout)
+    assert info["method"] == method and info["n"] == 147
