@@ -520,3 +520,33 @@ def boundary_cover(indptr, indices, part, vweight):
     for v in range(n):
         if b[v] and part[v] == side:
             part[v] = 2
+
+
+@njit(cache=True)
+def with_halo(indptr, indices, vertices, mark):
+    """``vertices`` together with their neighbours outside them (the halo), sorted, and a flag per
+    returned vertex (True for ``vertices``, False for the halo). ``mark`` is an int8 scratch array
+    of length n filled with 0; it is restored before returning."""
+    m = vertices.size
+    for i in range(m):
+        mark[vertices[i]] = 1
+    halo = []
+    for i in range(m):
+        v = vertices[i]
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if mark[u] == 0:
+                mark[u] = 2
+                halo.append(u)
+    h = len(halo)
+    out = np.empty(m + h, dtype=np.int64)
+    for i in range(m):
+        out[i] = vertices[i]
+    for i in range(h):
+        out[m + i] = halo[i]
+    out.sort()
+    inside = np.empty(m + h, dtype=np.bool_)
+    for i in range(m + h):
+        inside[i] = mark[out[i]] == 1
+        mark[out[i]] = 0
+    return out, inside
