@@ -894,7 +894,7 @@ def _demo_inputs(out: Path) -> list[Path]:
 DEMO_SMALL_N = 5000
 #: ... and on larger ones only the orderings whose time, predicted from their slowest speed (seconds
 #: per stored entry) on the small matrices, stays under this many seconds per case.
-DEMO_CASE_SECONDS = 1.5
+DEMO_CASE_SECONDS = 4.0
 #: Factorizations above this operation count are skipped in the demo (about two seconds).
 DEMO_FACTOR_MAX_OPS = 2e9
 
