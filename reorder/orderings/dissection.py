@@ -167,7 +167,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
                       spectral_min: int | None = None, trials: int | None = None, trials_min: int = 0,
                       ratio_key: bool = True, top_trials: int | None = None, top_fraction: float = 0.1,
                       keep: int | None = None, smooth: int | None = None, hybrid_max: int | None = None,
-                      hybrid_scores=None, hybrid_key: str = "nnz",
+                      hybrid_scores=None, hybrid_key: str = "nnz", hybrid_wide: int | None = None,
+                      hybrid_wide_scores=("degree", "fill"),
                       restarts: int | None = 1, restart_key: str = "nnz", **options):
     """Nested dissection ordering with multilevel spectral vertex separators.
 
@@ -216,6 +217,11 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         Pivot rules of the halo minimum degree tried there, ``"rule"`` or ``"rule/tie_seed"``.
         Default ``("degree", "mean_fill", "fill", "exact", "degree/1")``, or ``("degree",)``
         above 100 000 vertices (then leaves keep the global leaf pass).
+    hybrid_wide, hybrid_wide_scores : int, sequence of str
+        Subtrees of more than ``hybrid_wide`` vertices try only ``hybrid_wide_scores`` (default
+        ``("degree", "fill")``); default ``hybrid_wide``: the whole graph up to 30 000 vertices,
+        else 2000 (each rule costs one minimum degree and one symbolic count per tree level:
+        62 500-vertex grid 16 s with all rules, 12 s so).
     hybrid_key : {"nnz", "ops"}
         Cost of a subtree's columns: Σ c_j or Σ c_j².
     restarts, restart_key : int, str
@@ -255,6 +261,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         smooth = 0 if big else 4
     if hybrid_max is None:
         hybrid_max = 1000 if big else graph.n
+    if hybrid_wide is None:
+        hybrid_wide = graph.n if graph.n <= 30_000 else 2000
     if hybrid_scores is None:
         hybrid_scores = ("degree",) if big else ("degree", "mean_fill", "fill", "exact", "degree/1")
     if restarts is None:
@@ -269,7 +277,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
                 eigenvectors=eigenvectors, spectral_min=spectral_min, trials=trials, trials_min=trials_min,
                 ratio_key=ratio_key, top_trials=top_trials, top_fraction=top_fraction,
                 keep=(int(keep), top_keep), smooth=(int(smooth), top_smooth),
-                hybrid_max=hybrid_max, hybrid_scores=hybrid_scores, hybrid_key=hybrid_key)
+                hybrid_max=hybrid_max, hybrid_scores=hybrid_scores, hybrid_key=hybrid_key,
+                hybrid_wide=hybrid_wide, hybrid_wide_scores=hybrid_wide_scores)
             if restarts <= 1:
                 return perm, info
             sym = symbolic_factor(graph, perm)
@@ -297,7 +306,7 @@ def _single_thread_blas():
 def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, split, leaf_order, coarse_size,
                        eigenvectors, spectral_min, trials, trials_min, ratio_key, top_trials,
                        top_fraction, keep=(1, 1), smooth=(0, 0), hybrid_max=0, hybrid_scores=("degree",),
-                       hybrid_key="nnz"):
+                       hybrid_key="nnz", hybrid_wide=None, hybrid_wide_scores=("degree",)):
     n = graph.n
     leaf_size = max(int(leaf_size), 2)
     perm = np.full(n, -1, dtype=np.int64)
@@ -378,6 +387,7 @@ def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, s
     hstats = {}
     if hybrid_max and hybrid_max > 0:
         nodes, hstats = _subtree_choice(graph, perm, nodes, hybrid_max=int(hybrid_max), scores=tuple(hybrid_scores),
+                                        wide=hybrid_wide, wide_scores=tuple(hybrid_wide_scores),
                                         key=hybrid_key, seed=seed)
     tree = {"format": "reorder-separator-tree", "version": 1, "n": int(n), "root": 0,
             "leaf_size": leaf_size, "balance": float(balance), "nodes": nodes}
@@ -389,7 +399,7 @@ def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, s
 
 
 def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_max: int, scores, key: str,
-                    seed: int) -> tuple[list[dict], dict]:
+                    seed: int, wide: int | None = None, wide_scores=("degree",)) -> tuple[list[dict], dict]:
     """Bottom-up choice between the nested-dissection order of each small subtree and minimum degree.
 
     For every node of at most ``hybrid_max`` vertices (children before parents), the vertices of its
@@ -400,7 +410,9 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     with the halo eliminated last) wins. The columns of the range do not depend on the order outside
     it, and the halo's columns do not depend on the order inside (eliminating a connected set joins
     all its halo), so the choices add up exactly. A node won by minimum degree becomes a leaf and
-    its subtree is pruned. Returns the rebuilt node list and counters.
+    its subtree is pruned. Nodes of more than ``wide`` vertices try only ``wide_scores`` (time: each
+    rule costs one minimum degree and one symbolic count per level of the tree). Returns the rebuilt
+    node list and counters.
 
     References
     ----------
@@ -413,6 +425,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     stats = {"subtrees_tried": 0, "subtrees_to_mindegree": 0, "leaves_rescored": 0}
     if halo is None or not nodes:
         return nodes, stats
+    wide = graph.n if wide is None else int(wide)
     n = graph.n
     mark = np.zeros(n, dtype=np.int8)
     local = np.full(n, -1, dtype=np.int64)
@@ -440,7 +453,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
         best, nnz_best = cost(cur)
         best_loc = None
         stats["subtrees_tried"] += 1
-        for sc in scores:
+        for sc in (scores if m <= wide else wide_scores):
             name, _, tie = sc.partition("/")
             if name.startswith("exact") and nnz_best > EXACT_MAX_FILL * m:
                 continue  # exact degrees are slow where the factor is dense (power-law graphs)
