@@ -37,6 +37,7 @@ from scipy.sparse.csgraph import maximum_bipartite_matching
 
 from .graph import Graph
 from .kernels import separators as _k
+from .kernels import traversal as _kt
 
 __all__ = [
     "Separator",
@@ -244,10 +245,10 @@ def refine_separator(indptr, indices, part, *, vweight=None, balance: float = 0.
 
 def _pseudo_peripheral_distance(indptr, indices):
     """BFS distances from a pseudo-peripheral vertex (a fallback vector when no eigenvector)."""
-    dist = _k.bfs_levels(indptr, indices, 0)
+    dist = _kt.bfs_levels(indptr, indices, 0)
     for _ in range(3):
         far = int(np.argmax(dist))
-        d2 = _k.bfs_levels(indptr, indices, far)
+        d2 = _kt.bfs_levels(indptr, indices, far)
         if d2.max() <= dist.max() and _ > 0:
             dist = d2
             break
@@ -373,10 +374,10 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     nspectral = len(vecs)
     if mode == "window" or not vecs:
         rng = np.random.default_rng(seed)
-        starts = [int(np.argmax(_k.bfs_levels(c.indptr, c.indices, 0)))]
+        starts = [int(np.argmax(_kt.bfs_levels(c.indptr, c.indices, 0)))]
         starts += [int(x) for x in rng.integers(0, c.n, size=max(bfs_starts - 1, 0))]
         for s0 in starts[:max(bfs_starts, 1)]:
-            vecs.append(_k.bfs_levels(c.indptr, c.indices, s0).astype(np.float64))
+            vecs.append(_kt.bfs_levels(c.indptr, c.indices, s0).astype(np.float64))
     cands = []
     for j, vec in enumerate(vecs):
         p2, _ = split_vector(c.indptr, c.indices, vec, ewgt=c.ewgt, vweight=c.vweight, balance=balance, mode=mode)

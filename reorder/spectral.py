@@ -33,7 +33,7 @@ from scipy.sparse.linalg import LinearOperator, eigsh, lobpcg
 
 from .errors import InputError
 from .graph import Graph
-from .kernels import envelope as _ke
+from .kernels import traversal as _kt
 
 __all__ = [
     "FiedlerResult",
@@ -226,12 +226,12 @@ def pseudo_peripheral_pair(graph: Graph, start: int | None = None, max_sweeps: i
     if start is None:
         start = int(np.argmin(deg))
     s = int(start)
-    ls = _ke.bfs_levels(n, graph.indptr, graph.indices, s)
+    ls = _kt.bfs_levels(graph.indptr, graph.indices, s)
     ecc = int(ls.max())
     for _ in range(max_sweeps):
         last = np.flatnonzero(ls == ecc)
         e = int(last[np.argmin(deg[last])])
-        le = _ke.bfs_levels(n, graph.indptr, graph.indices, e)
+        le = _kt.bfs_levels(graph.indptr, graph.indices, e)
         ecc_e = int(le.max())
         if ecc_e > ecc:
             s, ls, ecc = e, le, ecc_e
@@ -239,7 +239,7 @@ def pseudo_peripheral_pair(graph: Graph, start: int | None = None, max_sweeps: i
         return s, e, ls, le
     last = np.flatnonzero(ls == ecc)
     e = int(last[np.argmin(deg[last])])
-    return s, e, ls, _ke.bfs_levels(n, graph.indptr, graph.indices, e)
+    return s, e, ls, _kt.bfs_levels(graph.indptr, graph.indices, e)
 
 
 def level_structure_vector(graph: Graph, *, start: int | None = None) -> np.ndarray:
@@ -449,10 +449,10 @@ def _solve_level(graph, A, y, k, **_):
     dist = np.full(n, np.inf)
     while len(cols) < k:
         for s_ in sources[len(sources) - 1:]:
-            dist = np.minimum(dist, _ke.bfs_levels(n, graph.indptr, graph.indices, s_).astype(float))
+            dist = np.minimum(dist, _kt.bfs_levels(graph.indptr, graph.indices, s_).astype(float))
         s_new = int(np.argmax(dist))
         sources.append(s_new)
-        cols.append(_ke.bfs_levels(n, graph.indptr, graph.indices, s_new).astype(float))
+        cols.append(_kt.bfs_levels(graph.indptr, graph.indices, s_new).astype(float))
     V = _project_out(np.column_stack(cols), y)
     Q, _ = np.linalg.qr(V)
     # keep the first column's direction exactly (the level order), Rayleigh quotients as values

@@ -1,4 +1,4 @@
-"""Envelope kernels: breadth-first levels, Sloan's priority-queue numbering, profile of an order.
+"""Envelope kernels: Sloan's priority-queue numbering and the profile of an order.
 
 Plain NumPy arrays in and out (``indptr``, ``indices`` of a symmetric graph without diagonal, int64);
 no validation here: :mod:`reorder.spectral` and :mod:`reorder.orderings.envelope` call these.
@@ -8,28 +8,6 @@ from __future__ import annotations
 
 import numpy as np
 from numba import njit
-
-
-@njit(cache=True)
-def bfs_levels(n, indptr, indices, source):
-    """Breadth-first distances from ``source`` (``-1`` where unreachable)."""
-    level = np.full(n, -1, dtype=np.int64)
-    queue = np.empty(n, dtype=np.int64)
-    level[source] = 0
-    queue[0] = source
-    head = 0
-    tail = 1
-    while head < tail:
-        v = queue[head]
-        head += 1
-        lv = level[v] + 1
-        for p in range(indptr[v], indptr[v + 1]):
-            u = indices[p]
-            if level[u] < 0:
-                level[u] = lv
-                queue[tail] = u
-                tail += 1
-    return level
 
 
 @njit(cache=True)

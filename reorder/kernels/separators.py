@@ -76,28 +76,6 @@ def component_labels(indptr, indices):
 
 
 @njit(cache=True)
-def bfs_levels(indptr, indices, start):
-    """Breadth-first distance from ``start`` (-1 where unreachable)."""
-    n = indptr.size - 1
-    dist = np.full(n, -1, dtype=np.int64)
-    queue = np.empty(n, dtype=np.int64)
-    dist[start] = 0
-    queue[0] = start
-    head = 0
-    tail = 1
-    while head < tail:
-        v = queue[head]
-        head += 1
-        for p in range(indptr[v], indptr[v + 1]):
-            u = indices[p]
-            if dist[u] == -1:
-                dist[u] = dist[v] + 1
-                queue[tail] = u
-                tail += 1
-    return dist
-
-
-@njit(cache=True)
 def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight):
     """Heavy-edge matching: visit vertices in ``visit`` order and match each unmatched vertex with
     the unmatched neighbour joined by the heaviest edge (ties: lighter neighbour, then lower index),

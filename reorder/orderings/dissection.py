@@ -48,6 +48,7 @@ from scipy.sparse.csgraph import reverse_cuthill_mckee
 from ..analysis import symbolic_factor
 from ..graph import Graph
 from ..kernels import separators as _k
+from ..kernels import traversal as _kt
 from ..separators import vertex_separator
 from . import register
 
@@ -650,7 +651,7 @@ def recursive_spectral_bisection(graph: Graph, *, seed: int = 0, parts: int = 8,
                 try:
                     v = fiedler_vector(g, seed=_seed(seed, count)).vector
                 except Exception:
-                    v = _k.bfs_levels(sip, six, 0).astype(np.float64)
+                    v = _kt.bfs_levels(sip, six, 0).astype(np.float64)
                 r = np.argsort(np.argsort(v, kind="stable"), kind="stable")
                 key[idx] = r / max(idx.size, 1)
             count += 1
