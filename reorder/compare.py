@@ -22,7 +22,7 @@ import scipy.sparse as sp
 
 from . import report as _report
 from .errors import InputError
-from .io import atomic_path, matrix_name, read_matrix, write_permutation
+from .io import matrix_name, read_matrix, write_permutation
 
 __all__ = [
     "Case",

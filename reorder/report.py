@@ -10,7 +10,6 @@ from __future__ import annotations
 import base64
 import csv
 import html
-import io as _io
 import json
 import math
 from pathlib import Path

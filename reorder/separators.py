@@ -206,7 +206,6 @@ def cover_separator(indptr, indices, part, *, vweight=None) -> np.ndarray:
     ----------
     D. König (1931); Pothen, Simon & Liou (1990), section 4.
     """
-    n = indptr.size - 1
     part = np.asarray(part, dtype=np.int8).copy()
     rows, cols, bptr, bind = _k.cut_bipartite(indptr, indices, part)
     if rows.size == 0:

@@ -221,7 +221,6 @@ def pseudo_peripheral_pair(graph: Graph, start: int | None = None, max_sweeps: i
     A. George and J. W. H. Liu, "An implementation of a pseudoperipheral node finder",
     ACM Trans. Math. Softw. 5 (1979) 284–295.
     """
-    n = graph.n
     deg = graph.degrees()
     if start is None:
         start = int(np.argmin(deg))

@@ -19,7 +19,6 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 

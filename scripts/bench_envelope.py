@@ -22,7 +22,6 @@ import time
 
 import numpy as np
 import pyamg
-import scipy.sparse as sp
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 from scipy.spatial import Delaunay, cKDTree
 

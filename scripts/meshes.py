@@ -178,8 +178,6 @@ def mesh_boxes3d(boxes, cylinders, h: float, seed: int = 0):
     tets : (m, 4) int64 array, positively oriented
     """
     rng = np.random.default_rng(seed)
-    lo = np.min([b[0] for b in boxes], axis=0)
-    hi = np.max([b[1] for b in boxes], axis=0)
     axes = [_axis_coords([b[0][d] for b in boxes] + [b[1][d] for b in boxes], h) for d in range(3)]
     X, Y, Z = np.meshgrid(*axes, indexing="ij")
     pts = np.column_stack([X.ravel(), Y.ravel(), Z.ravel()])
