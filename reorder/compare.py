@@ -620,13 +620,13 @@ class CompareResult:
             if not n.startswith(_EXPLANATIONS):  # those are for the report; the terminal shows the news
                 yield Text(f"note: {n}", style="yellow")
         yield Text(
-            f"{len(self.rows)} cases ({self.ran} run, {self.reused} from the log, {self.failed} failed) "
-            f"in {self.seconds:.1f} s; results in {self.out}; report: {self.report}"
+            f"{len(self.rows)} cases ({self.ran} run, {self.reused} reused from the log of this folder, "
+            f"{self.failed} failed) in {self.seconds:.1f} s; results in {self.out}; report: {self.report}"
         )
 
     def __str__(self) -> str:
-        return (f"{len(self.rows)} cases ({self.ran} run, {self.reused} from the log, {self.failed} failed); "
-                f"report: {self.report}")
+        return (f"{len(self.rows)} cases ({self.ran} run, {self.reused} reused from the log of this folder, "
+                f"{self.failed} failed); report: {self.report}")
 
     def to_dict(self) -> dict:
         d = asdict(self)
