@@ -282,6 +282,21 @@ def _viol(w0, w1, maxside):
 
 
 @njit(cache=True)
+def _move_gains(indptr, indices, vweight, part, v):
+    """Gains of moving separator vertex ``v`` to side 0 and to side 1: its weight minus the weight
+    of the neighbours on the other side, which would have to enter the separator."""
+    g0 = vweight[v]
+    g1 = vweight[v]
+    for p in range(indptr[v], indptr[v + 1]):
+        u = indices[p]
+        if part[u] == 1:
+            g0 -= vweight[u]
+        elif part[u] == 0:
+            g1 -= vweight[u]
+    return g0, g1
+
+
+@njit(cache=True)
 def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
     """Fiduccia–Mattheyses refinement of a vertex separator, in place.
 
@@ -310,14 +325,7 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
         for v in range(n):
             if part[v] != 2:
                 continue
-            g0 = vweight[v]
-            g1 = vweight[v]
-            for p in range(indptr[v], indptr[v + 1]):
-                u = indices[p]
-                if part[u] == 1:
-                    g0 -= vweight[u]
-                elif part[u] == 0:
-                    g1 -= vweight[u]
+            g0, g1 = _move_gains(indptr, indices, vweight, part, v)
             gain[0, v] = g0
             gain[1, v] = g1
             h0.append((-g0, v))
@@ -405,14 +413,7 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
                         gain[to, x] += vweight[u]
             for q in range(first, npl):
                 u = pulled[q]
-                a = vweight[u]
-                b = vweight[u]
-                for p in range(indptr[u], indptr[u + 1]):
-                    x = indices[p]
-                    if part[x] == 1:
-                        a -= vweight[x]
-                    elif part[x] == 0:
-                        b -= vweight[x]
+                a, b = _move_gains(indptr, indices, vweight, part, u)
                 gain[0, u] = a
                 gain[1, u] = b
             # push changed entries
