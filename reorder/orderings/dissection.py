@@ -432,10 +432,21 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     local = np.full(n, -1, dtype=np.int64)
     pruned = np.zeros(len(nodes), dtype=bool)
     power = 2 if key == "ops" else 1
+    # The columns of a node's range depend only on the order inside it: its cost is the cost of its
+    # own separator columns (fixed by the order of the separator alone) plus its children's, so one
+    # global count serves for the whole bottom-up pass.
+    cc = symbolic_factor(graph, perm).colcounts.astype(np.float64)
+    pre_c = np.concatenate(([0.0], np.cumsum(cc ** power)))
+    pre_z = np.concatenate(([0.0], np.cumsum(cc)))
+    cost_c = np.zeros(len(nodes))
+    cost_z = np.zeros(len(nodes))
     for nid in range(len(nodes) - 1, -1, -1):
         nd = nodes[nid]
         s, t = nd["start"], nd["stop"]
         m = t - s
+        own = s if nd["kind"] == "leaf" else t - nd["separator"]
+        cost_c[nid] = pre_c[t] - pre_c[own] + sum(cost_c[c] for c in nd["children"])
+        cost_z[nid] = pre_z[t] - pre_z[own] + sum(cost_z[c] for c in nd["children"])
         if m > hybrid_max or m < 3:
             continue
         if nd["kind"] == "leaf" and len(scores) <= 1:
@@ -445,13 +456,12 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
         ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, W, local)
         g = Graph(n=W.size, indptr=ip, indices=ix, weights=None, info={})
         hl = np.flatnonzero(~inside)
-        cur = np.searchsorted(W, verts)
 
         def cost(loc):
-            cc = symbolic_factor(g, np.concatenate((loc, hl))).colcounts[:m].astype(np.float64)
-            return float(np.sum(cc ** power)), float(np.sum(cc))
+            c = symbolic_factor(g, np.concatenate((loc, hl))).colcounts[:m].astype(np.float64)
+            return float(np.sum(c ** power)), float(np.sum(c))
 
-        best, nnz_best = cost(cur)
+        best, nnz_best = float(cost_c[nid]), float(cost_z[nid])
         best_loc = None
         stats["subtrees_tried"] += 1
         for sc in (scores if m <= wide else wide_scores):
@@ -464,6 +474,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
                 best, nnz_best, best_loc = c, nz, loc
         if best_loc is None:
             continue
+        cost_c[nid], cost_z[nid] = best, nnz_best
         perm[s:t] = W[best_loc]
         if nd["kind"] == "leaf":
             stats["leaves_rescored"] += 1
