@@ -14,6 +14,12 @@ Usage::
     python scripts/bench_dissection.py --variants      # also the plain / no-refinement variants
     python scripts/bench_dissection.py --factor        # also time SuperLU factorizations on 3-D cases
     python scripts/bench_dissection.py --auto-suite    # also auto vs best of RCM / SciPy MD, whole suite
+    python scripts/bench_dissection.py --efforts fast,normal  # suite rows for each nd effort
+    python scripts/bench_dissection.py --factor-sweep 24,32,40,48  # time to factor, 3-D 7-point grids
+
+Time to factor compares ``t(order by nd) + t(SuperLU, natural order, no pivoting)`` with ``t(splu
+with its own minimum degree)`` (which includes SuperLU's ordering time); each is the least of
+``--repeat`` runs (the machine is noisy).
 """
 
 from __future__ import annotations
@@ -84,7 +90,7 @@ def gmean(x):
     return float(math.exp(np.mean(np.log(x)))) if len(x) else float("nan")
 
 
-def run_suite(cases, variants, with_auto, factor):
+def run_suite(cases, variants, with_auto, factor, efforts=("normal",)):
     rows = []
     hdr = f"{'matrix':28s} {'kind':7s} {'n':>8s} {'method':10s} {'nnzL/md':>8s} {'ops/md':>8s} {'t_ord':>7s} {'t_md':>7s}"
     print(hdr)
@@ -95,7 +101,7 @@ def run_suite(cases, variants, with_auto, factor):
         M = m_matrix(A)
         pm, t_md = scipy_md(M)
         s0 = symbolic_factor(G, pm)
-        methods = [("nd", {})]
+        methods = [("nd" if e == "normal" else f"nd-{e}", {} if e == "normal" else {"effort": e}) for e in efforts]
         if variants:
             methods += [("nd-plain", dict(multilevel=False, refine=False, split="median")),
                         ("nd-norefine", dict(refine=False)), ("nd-trials1", dict(trials=1))]
@@ -149,6 +155,46 @@ def run_auto_suite():
     return out
 
 
+def _best_of(repeat, fn):
+    best = None
+    for _ in range(max(1, repeat)):
+        t = time.perf_counter()
+        out = fn()
+        sec = time.perf_counter() - t
+        if best is None or sec < best[0]:
+            best = (sec, out)
+    return best
+
+
+def run_factor_sweep(sizes, efforts, repeat):
+    """Time to factor on 3-D 7-point grids: nd + SuperLU natural order against splu with its own
+    minimum degree (SuperLU's MMD on A + Aᵀ), same M-matrix, same run."""
+    import pyamg
+
+    out = []
+    print(f"\n{'3-D grid':>10s} {'n':>8s} {'effort':>7s} {'t_order':>8s} {'t_factor':>8s} {'t_splu_md':>9s} "
+          f"{'ratio':>6s} {'nnzL/md':>8s} {'ops/md':>7s}")
+    for k in sizes:
+        A = pyamg.gallery.poisson((k, k, k)).tocsr()
+        G = from_matrix(A)
+        M = m_matrix(A)
+        t_md, (pm, _) = _best_of(repeat, lambda: scipy_md(M))
+        s0 = symbolic_factor(G, pm)
+        for e in efforts:
+            t_ord, o = _best_of(repeat, lambda: order(G, "nd", effort=e))
+            Mp = M[o.perm][:, o.perm].tocsc()
+            t_fac, _ = _best_of(repeat, lambda: splu(Mp, permc_spec="NATURAL", diag_pivot_thresh=0,
+                                                      options={"SymmetricMode": True}))
+            s = symbolic_factor(G, o.perm)
+            r = {"k": k, "n": G.n, "effort": e, "order_seconds": t_ord, "factor_seconds": t_fac,
+                 "splu_md_seconds": t_md, "ratio": (t_ord + t_fac) / t_md,
+                 "nnz_ratio": s.nnz_factor / s0.nnz_factor, "ops_ratio": s.factor_ops / s0.factor_ops}
+            out.append(r)
+            print(f"{k:>4d}^3     {G.n:8d} {e:>7s} {t_ord:8.2f} {t_fac:8.2f} {t_md:9.2f} {r['ratio']:6.2f} "
+                  f"{r['nnz_ratio']:8.3f} {r['ops_ratio']:7.3f}", flush=True)
+    return out
+
+
 def run_scaling(sizes):
     import pyamg
 
@@ -181,13 +227,19 @@ def main():
     ap.add_argument("--no-auto", action="store_true")
     ap.add_argument("--factor", action="store_true")
     ap.add_argument("--auto-suite", action="store_true", help="also run auto on every bundled matrix")
+    ap.add_argument("--efforts", default="normal", help="nd efforts for the suite rows, comma-separated")
+    ap.add_argument("--factor-sweep", default="", help="3-D grid sizes k (k^3 rows) for the time-to-factor sweep")
+    ap.add_argument("--sweep-efforts", default="normal,fast", help="nd efforts in the time-to-factor sweep")
+    ap.add_argument("--repeat", type=int, default=1, help="timed runs per measurement in the sweep (least kept)")
+    ap.add_argument("--no-suite", action="store_true", help="skip the suite rows")
     ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_dissection.json"))
     args = ap.parse_args()
 
-    cases = suite_cases(args.min_n)
-    if not args.no_generated:
+    cases = [] if args.no_suite else suite_cases(args.min_n)
+    if not args.no_generated and not args.no_suite:
         cases += generated_cases()
-    rows = run_suite(cases, args.variants, not args.no_auto, args.factor)
+    efforts = tuple(e for e in args.efforts.split(",") if e)
+    rows = run_suite(cases, args.variants, not args.no_auto, args.factor, efforts)
     nd = [r for r in rows if r["method"] == "nd"]
     suite_nd = [r for r in nd if not r["matrix"].startswith("gen_")]
     summary = {
@@ -207,11 +259,14 @@ def main():
     for k, v in summary.items():
         print(f"  {k:14s} " + "  ".join(f"{a}={b:.3f}" if isinstance(b, float) else f"{a}={b}" for a, b in v.items()))
     auto_rows = run_auto_suite() if args.auto_suite else []
+    sweep_sizes = [int(x) for x in args.factor_sweep.split(",") if x]
+    sweep = run_factor_sweep(sweep_sizes, [e for e in args.sweep_efforts.split(",") if e], args.repeat) \
+        if sweep_sizes else []
     sizes = [k for k in (125, 250, 500, 1000) if k <= args.max_grid]
     scaling = run_scaling(sizes) if sizes else []
     Path(args.out).parent.mkdir(parents=True, exist_ok=True)
     Path(args.out).write_text(json.dumps({"rows": rows, "summary": summary, "scaling": scaling,
-                                           "auto_suite": auto_rows}, indent=1))
+                                           "auto_suite": auto_rows, "factor_sweep": sweep}, indent=1))
     print(f"\nwrote {args.out}")
 
 

@@ -91,6 +91,9 @@ def test_stats_table_and_npy(capsys, plate, tmp_path):
         lambda d, m: ["apply", m, d / "short.txt", "-o", m],
         lambda d, m: ["order"],
         lambda d, m: ["order", m, "--bogus"],
+        lambda d, m: ["order", m, "-m", "nd", "--effort", "turbo", "-o", d / "p.txt"],
+        lambda d, m: ["order", m, "-m", "rcm", "--effort", "fast", "-o", d / "p.txt"],
+        lambda d, m: ["stats", m, "--effort", "fast"],
     ],
 )
 def test_user_errors_exit_2_one_line_no_output(capsys, plate, tmp_path, args_fn):
@@ -133,3 +136,15 @@ def test_same_seed_same_file(capsys, plate, tmp_path):
 def test_m_matrix_helper_is_spd():
     # NumPy dense Cholesky succeeds on the helper's M-matrix (reference for later tests).
     np.linalg.cholesky(m_matrix(grid2d(4)).toarray())
+
+
+def test_effort_flag(capsys, plate, tmp_path):
+    # --effort reaches nd: the JSON summary's count equals reorder.analysis on the written file
+    p = tmp_path / "fast.txt"
+    code, out, _ = run(capsys, "order", plate, "-m", "nd", "--effort", "fast", "-o", p, "--json")
+    assert code == 0
+    summary = json.loads(out)
+    A = read_matrix(plate)
+    assert analyse(A, read_permutation(p, A.shape[0])).nnz_factor == summary["nnz_factor"]
+    code, out, _ = run(capsys, "stats", plate, "-m", "nd", "--effort", "best", "--json")
+    assert code == 0 and json.loads(out)["ordering"] == "nd"

@@ -188,3 +188,25 @@ def test_restarts_keep_the_least_fill():
     assert symbolic_factor(G, two.perm).nnz_factor <= symbolic_factor(G, one.perm).nnz_factor
     assert len(two.info["restarts"]) == 2
     assert validate_tree(two.info["separator_tree"], two.perm, G)
+
+
+def test_effort_presets():
+    # "best" = the "normal" run (restart 0, same seed, same settings below 10^5 vertices) plus two
+    # restarts, so it can only lower the exact count; "fast" is a different, valid dissection that
+    # still meets George's (1973) ideal-ND bound quoted in the first test and beats SciPy's RCM
+    k = 31
+    G = from_matrix(grid2d(k))
+    fast, normal, best = (order(G, "nd", effort=e) for e in ("fast", "normal", "best"))
+    nnz = {e: symbolic_factor(G, o.perm).nnz_factor for e, o in (("fast", fast), ("normal", normal), ("best", best))}
+    assert nnz["best"] <= nnz["normal"]
+    assert len(best.info["restarts"]) == 3
+    assert nnz["fast"] <= 31 / 4 * k * k * np.log2(k)
+    rcm = reverse_cuthill_mckee(G.to_csr(), symmetric_mode=True)  # SciPy baseline
+    assert nnz["fast"] <= 0.6 * symbolic_factor(G, rcm).nnz_factor
+    for o in (fast, normal, best):
+        assert validate_tree(o.info["separator_tree"], o.perm, G)
+    assert np.array_equal(order(G, "nd", effort="fast").perm, fast.perm)  # same seed, same order
+    with pytest.raises(ValueError):
+        order(G, "nd", effort="turbo")
+    a = order(G, "auto", effort="fast")
+    assert a.info["candidates"]["nd"]["nnz_factor"] == nnz["fast"]

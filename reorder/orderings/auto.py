@@ -44,7 +44,8 @@ def _superlu_md(graph: Graph) -> np.ndarray:
 
 
 @register("auto", summary="best of nd, minimum degree and RCM by exact nnz(L)", split_components=False, rank=5)
-def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 5000, **options):
+def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 5000, effort: str | None = None,
+         **options):
     """Order by every candidate method and keep the smallest nnz(L) (ties: fewer operations, then
     the earlier candidate).
 
@@ -59,6 +60,8 @@ def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 500
         Graphs with at most this many vertices also try SciPy SuperLU's minimum degree on A + Aᵀ
         (candidate ``"superlu-md"``; it needs a numerical factorization of an M-matrix with the same
         pattern, so it is kept to small inputs). 0 turns it off.
+    effort : {"fast", "normal", "best"}, optional
+        Passed to the ``nd`` candidate (see :func:`reorder.orderings.dissection.nested_dissection`).
     **options
         Ignored (candidates run with their defaults).
 
@@ -84,7 +87,7 @@ def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 500
         t0 = time.perf_counter()
         try:
             get(name)
-            o = order(graph, name, seed=seed)
+            o = order(graph, name, seed=seed, **({"effort": effort} if effort and name == "nd" else {}))
         except Exception as exc:  # a failing candidate must not sink the others
             results[name] = {"error": f"{type(exc).__name__}: {exc}"}
             continue
