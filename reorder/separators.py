@@ -167,27 +167,8 @@ def split_vector(indptr, indices, vector, *, ewgt=None, vweight=None, balance: f
     ewgt = np.ones(indices.size, dtype=np.int64) if ewgt is None else ewgt
     vweight = np.ones(n, dtype=np.int64) if vweight is None else vweight
     order = np.argsort(np.asarray(vector, dtype=np.float64), kind="stable").astype(np.int64)
-    cut = _k.sweep_cuts(indptr, indices, ewgt, order)
-    cw = np.concatenate(([0], np.cumsum(vweight[order])))
-    total = cw[-1]
-    if mode == "median":
-        k = int(np.searchsorted(cw, total / 2.0))
-        k = min(max(k, 1), n - 1)
-    else:
-        lo = balance * total
-        w0 = cw[1:-1].astype(np.float64)
-        w1 = total - w0
-        ok = (w0 >= lo - 1e-9) & (w1 >= lo - 1e-9)
-        if not ok.any():
-            k = int(np.searchsorted(cw, total / 2.0))
-            k = min(max(k, 1), n - 1)
-        else:
-            score = cut[1:-1] * (total * total / 4.0) / np.maximum(w0 * w1, 1.0)
-            score = np.where(ok, score, np.inf)
-            k = int(np.argmin(score)) + 1
-    part = np.ones(n, dtype=np.int8)
-    part[order[:k]] = 0
-    return part, int(cut[k])
+    part, cut = _k.prefix_split(indptr, indices, ewgt, vweight, order, float(balance), mode == "median")
+    return part, int(cut)
 
 
 def cover_separator(indptr, indices, part, *, vweight=None) -> np.ndarray:

@@ -78,7 +78,8 @@ def component_labels(indptr, indices):
 @njit(cache=True)
 def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight):
     """Heavy-edge matching: visit vertices in ``visit`` order and match each unmatched vertex with
-    the unmatched neighbour joined by the heaviest edge (ties: lighter neighbour, then lower index),
+    the unmatched neighbour joined by the heaviest edge (ties: lighter neighbour, then the one
+    visited first, so that ties follow the random visiting order and not the numbering),
     subject to the coarse vertex weight staying at most ``maxvweight``.
 
     Returns ``(nc, cmap, match)``: number of coarse vertices, fine → coarse map and the mate of each
@@ -89,6 +90,9 @@ def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight):
     """
     n = indptr.size - 1
     match = np.full(n, -1, dtype=np.int64)
+    rank = np.empty(n, dtype=np.int64)
+    for t in range(n):
+        rank[visit[t]] = t
     for t in range(n):
         v = visit[t]
         if match[v] != -1:
@@ -103,7 +107,7 @@ def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight):
             if vweight[u] + vweight[v] > maxvweight:
                 continue
             w = ewgt[p]
-            if w > bw or (w == bw and (vweight[u] < bvw or (vweight[u] == bvw and u < best))):
+            if w > bw or (w == bw and (vweight[u] < bvw or (vweight[u] == bvw and rank[u] < rank[best]))):
                 best = u
                 bw = w
                 bvw = vweight[u]
@@ -186,6 +190,51 @@ def sweep_cuts(indptr, indices, ewgt, order):
         s += diff[k]
         cut[k] = s
     return cut
+
+
+@njit(cache=True)
+def prefix_split(indptr, indices, ewgt, vweight, order, balance, median):
+    """Two-way split of ``order`` at the best prefix: side 0 is ``order[:k]``.
+
+    ``median``: the first k whose prefix weighs at least half the total. Otherwise, among the
+    prefixes with both sides weighing at least ``balance`` of the total, the least
+    ``cut · W² / (4 w0 w1)`` (first on ties), or the median when none qualifies. Returns
+    ``(part, cut)`` with ``part`` int8 0 / 1 per vertex.
+    """
+    n = indptr.size - 1
+    cut = sweep_cuts(indptr, indices, ewgt, order)
+    cw = np.zeros(n + 1, dtype=np.int64)
+    for i in range(n):
+        cw[i + 1] = cw[i] + vweight[order[i]]
+    total = cw[n]
+    half = total / 2.0
+    kmed = n
+    for i in range(n + 1):
+        if cw[i] >= half:
+            kmed = i
+            break
+    kmed = min(max(kmed, 1), n - 1)
+    k = kmed
+    if not median:
+        lo = balance * total
+        scale = (total * total) / 4.0
+        best = np.inf
+        found = False
+        for i in range(1, n):
+            w0 = np.float64(cw[i])
+            w1 = total - w0
+            if w0 >= lo - 1e-9 and w1 >= lo - 1e-9:
+                sc = cut[i] * scale / max(w0 * w1, 1.0)
+                if not found or sc < best:
+                    best = sc
+                    k = i
+                    found = True
+        if not found:
+            k = kmed
+    part = np.ones(n, dtype=np.int8)
+    for i in range(k):
+        part[order[i]] = 0
+    return part, cut[k]
 
 
 @njit(cache=True)

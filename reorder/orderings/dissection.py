@@ -52,7 +52,8 @@ from ..kernels import traversal as _kt
 from ..separators import vertex_separator
 from . import register
 
-__all__ = ["EFFORTS", "nested_dissection", "recursive_spectral_bisection", "tree_summary", "validate_tree", "order_blocks"]
+__all__ = ["EFFORTS", "nested_dissection", "nested_dissection_fast", "recursive_spectral_bisection", "tree_summary",
+           "validate_tree", "order_blocks"]
 
 
 #: the subtree choice skips exact-degree pivot rules where the best order so far has more than this
@@ -307,6 +308,18 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     _, perm, info = best
     info["restarts"] = tried  # [factor_ops, nnz_factor] of each restart
     return perm, info
+
+
+@register("nd-fast", summary="nested dissection with cheaper settings (nd --effort fast), for a single factorization",
+          split_components=False, rank=41)
+def nested_dissection_fast(graph: Graph, *, seed: int = 0, **options):
+    """:func:`nested_dissection` with ``effort="fast"`` (the settings of large graphs at every size).
+
+    A method of its own so that ``compare`` and ``demo`` show the trade-off between ordering time
+    and fill next to ``nd``. Other options are passed on; ``effort`` is fixed.
+    """
+    options.pop("effort", None)
+    return nested_dissection(graph, seed=seed, effort="fast", **options)
 
 
 def _single_thread_blas():
