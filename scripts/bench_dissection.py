@@ -195,26 +195,61 @@ def run_factor_sweep(sizes, efforts, repeat):
     return out
 
 
-def run_scaling(sizes):
+def run_cli(k):
+    """``reorder order --method nd`` end to end (interpreter start, reading, ordering, writing and
+    verifying the file) on a k x k 5-point grid saved as .npz, with SciPy's RCM time for scale."""
+    import subprocess
+    import sys
+    import tempfile
+
     import pyamg
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+    A = pyamg.gallery.poisson((k, k)).tocsr()
+    t_rcm, _ = _best_of(3, lambda: reverse_cuthill_mckee(A, symmetric_mode=True))
+    with tempfile.TemporaryDirectory() as d:
+        f = Path(d) / f"grid_{k}.npz"
+        sp.save_npz(f, A)
+        cmd = [sys.executable, "-m", "reorder.cli", "order", str(f), "--method", "nd", "-o", str(Path(d) / "p.txt")]
+        t = time.perf_counter()
+        subprocess.run(cmd, check=True, capture_output=True)
+        sec = time.perf_counter() - t
+    print(f"\nreorder order --method nd, {k}x{k} grid end to end: {sec:.1f} s (SciPy RCM {t_rcm:.3f} s, "
+          f"ratio {sec / t_rcm:.0f})", flush=True)
+    return {"k": k, "n": k * k, "seconds": sec, "rcm_seconds": t_rcm}
+
+
+def run_scaling(sizes, efforts=("normal",)):
+    """nd on 2-D 5-point grids of growing size; SciPy's RCM on the same graph (least of three runs)
+    as the machine's speed reference, so ``t_nd / t_rcm`` can be compared across machines."""
+    import pyamg
+    from scipy.sparse.csgraph import reverse_cuthill_mckee
 
     out = []
-    print(f"\n{'grid':>12s} {'n':>9s} {'t_nd':>7s} {'t/(n log2 n) [us]':>18s} {'nnzL/md':>8s}")
+    print(f"\n{'grid':>12s} {'n':>9s} {'effort':>7s} {'t_nd':>7s} {'t_rcm':>6s} {'t_nd/t_rcm':>10s} "
+          f"{'t/(n log2 n) [us]':>18s} {'nnzL/md':>8s}")
     for k in sizes:
         A = pyamg.gallery.poisson((k, k)).tocsr()
         G = from_matrix(A)
-        o = order(G, "nd")
-        s = symbolic_factor(G, o.perm)
-        n = G.n
-        r = {"k": k, "n": n, "seconds": o.seconds, "nnz_factor": s.nnz_factor, "factor_ops": s.factor_ops,
-             "us_per_nlogn": 1e6 * o.seconds / (n * math.log2(n))}
-        if n <= 300_000:
+        csr = G.to_csr()
+        t_rcm, _ = _best_of(3, lambda: reverse_cuthill_mckee(csr, symmetric_mode=True))
+        s0 = None
+        if G.n <= 300_000:
             pm, t_md = scipy_md(m_matrix(A))
             s0 = symbolic_factor(G, pm)
-            r.update(md_nnz_factor=s0.nnz_factor, md_seconds=t_md, nnz_ratio=s.nnz_factor / s0.nnz_factor)
-        out.append(r)
-        print(f"{k:>5d}x{k:<6d} {n:9d} {o.seconds:7.2f} {r['us_per_nlogn']:18.3f} {r.get('nnz_ratio', float('nan')):8.3f}",
-              flush=True)
+        for e in efforts:
+            o = order(G, "nd", effort=e)
+            s = symbolic_factor(G, o.perm)
+            n = G.n
+            r = {"k": k, "n": n, "effort": e, "seconds": o.seconds, "rcm_seconds": t_rcm,
+                 "nd_over_rcm": o.seconds / t_rcm, "nnz_factor": s.nnz_factor, "factor_ops": s.factor_ops,
+                 "us_per_nlogn": 1e6 * o.seconds / (n * math.log2(n))}
+            if s0 is not None:
+                r.update(md_nnz_factor=s0.nnz_factor, md_seconds=t_md, nnz_ratio=s.nnz_factor / s0.nnz_factor)
+            out.append(r)
+            print(f"{k:>5d}x{k:<6d} {n:9d} {e:>7s} {o.seconds:7.2f} {t_rcm:6.3f} {r['nd_over_rcm']:10.0f} "
+                  f"{r['us_per_nlogn']:18.3f} {r.get('nnz_ratio', float('nan')):8.3f}", flush=True)
     return out
 
 
@@ -232,6 +267,8 @@ def main():
     ap.add_argument("--sweep-efforts", default="normal,fast", help="nd efforts in the time-to-factor sweep")
     ap.add_argument("--repeat", type=int, default=1, help="timed runs per measurement in the sweep (least kept)")
     ap.add_argument("--no-suite", action="store_true", help="skip the suite rows")
+    ap.add_argument("--cli-grid", type=int, default=1000, help="k for the end-to-end CLI run on a k x k grid (0: skip)")
+    ap.add_argument("--scaling-efforts", default="normal,fast", help="nd efforts in the 2-D grid scaling run")
     ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_dissection.json"))
     args = ap.parse_args()
 
@@ -263,10 +300,12 @@ def main():
     sweep = run_factor_sweep(sweep_sizes, [e for e in args.sweep_efforts.split(",") if e], args.repeat) \
         if sweep_sizes else []
     sizes = [k for k in (125, 250, 500, 1000) if k <= args.max_grid]
-    scaling = run_scaling(sizes) if sizes else []
+    scaling = run_scaling(sizes, [e for e in args.scaling_efforts.split(",") if e]) if sizes else []
+    cli = run_cli(args.cli_grid) if args.cli_grid else {}
     Path(args.out).parent.mkdir(parents=True, exist_ok=True)
     Path(args.out).write_text(json.dumps({"rows": rows, "summary": summary, "scaling": scaling,
-                                           "auto_suite": auto_rows, "factor_sweep": sweep}, indent=1))
+                                           "auto_suite": auto_rows, "factor_sweep": sweep, "cli": cli},
+                                          indent=1))
     print(f"\nwrote {args.out}")
 
 
