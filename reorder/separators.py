@@ -133,7 +133,10 @@ def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = 128, min_ratio
         visit = rng.permutation(cur.n).astype(np.int64)
         if sorted_visit:
             visit = visit[np.argsort(np.diff(cur.indptr)[visit], kind="stable")]
-        nc, cmap, match = _k.heavy_edge_matching(cur.indptr, cur.indices, cur.ewgt, cur.vweight, visit, maxv)
+        # ties by index on the input graph (its numbering often follows the geometry), by the random
+        # visiting order on coarse levels (numbered by their smaller fine vertex, see the kernel)
+        nc, cmap, match = _k.heavy_edge_matching(cur.indptr, cur.indices, cur.ewgt, cur.vweight, visit, maxv,
+                                                 len(levels) > 0)
         if nc > min_ratio * cur.n:
             break
         ci, cj, cw, cv = _k.contract(cur.indptr, cur.indices, cur.ewgt, cur.vweight, cmap, match, nc)
@@ -354,7 +357,10 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     nspectral = len(vecs)
     if mode == "window" or not vecs:
         rng = np.random.default_rng(seed)
-        starts = [int(np.argmax(_kt.bfs_levels(c.indptr, c.indices, 0)))]
+        # the farthest vertex from a random one (not from vertex 0: coarse vertices keep the fine
+        # numbering's order, so vertex 0 sits in a corner of a grid-like graph)
+        r0 = int(rng.integers(0, c.n))
+        starts = [int(np.argmax(_kt.bfs_levels(c.indptr, c.indices, r0)))]
         starts += [int(x) for x in rng.integers(0, c.n, size=max(bfs_starts - 1, 0))]
         for s0 in starts[:max(bfs_starts, 1)]:
             vecs.append(_kt.bfs_levels(c.indptr, c.indices, s0).astype(np.float64))
