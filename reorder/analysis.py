@@ -25,7 +25,7 @@ from .graph import Graph, from_matrix
 from .io import check_permutation
 from .kernels import symbolic as _k
 
-__all__ = ["Stats", "Symbolic", "symbolic_factor", "analyse", "bandwidth_profile", "inverse"]
+__all__ = ["Stats", "Symbolic", "symbolic_factor", "factor_column_counts", "analyse", "bandwidth_profile", "inverse"]
 
 
 def inverse(perm: np.ndarray) -> np.ndarray:
@@ -101,6 +101,17 @@ def symbolic_factor(graph: Graph, perm=None) -> Symbolic:
     counts = _k.column_counts(n, graph.indptr, graph.indices, perm, inv, parent, post)
     depth = _k.tree_depths(parent)
     return Symbolic(parent=parent, post=post, colcounts=counts, depth=depth)
+
+
+def factor_column_counts(graph: Graph, perm: np.ndarray) -> np.ndarray:
+    """Column counts of L (diagonal included) in the order ``perm``, without validating ``perm``:
+    the inner step of :func:`symbolic_factor` for callers that count many orders of their own
+    making (nested dissection's subtree choice). ``perm`` must be an int64 permutation of
+    ``range(graph.n)``."""
+    n = graph.n
+    inv = inverse(perm)
+    parent = _k.etree(n, graph.indptr, graph.indices, perm, inv)
+    return _k.column_counts(n, graph.indptr, graph.indices, perm, inv, parent, _k.postorder(parent))
 
 
 def bandwidth_profile(graph: Graph, perm=None) -> tuple[int, int]:

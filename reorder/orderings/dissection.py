@@ -45,7 +45,7 @@ from __future__ import annotations
 import numpy as np
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
-from ..analysis import symbolic_factor
+from ..analysis import factor_column_counts, symbolic_factor
 from ..graph import Graph
 from ..kernels import separators as _k
 from ..kernels import traversal as _kt
@@ -488,7 +488,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
         hl = np.flatnonzero(~inside)
 
         def cost(loc):
-            c = symbolic_factor(g, np.concatenate((loc, hl))).colcounts[:m].astype(np.float64)
+            c = factor_column_counts(g, np.concatenate((loc, hl)))[:m].astype(np.float64)
             return float(np.sum(c ** power)), float(np.sum(c))
 
         best, nnz_best = float(cost_c[nid]), float(cost_z[nid])
