@@ -366,6 +366,14 @@ def check_permutation(perm, n: int | None = None, *, source: str | None = None) 
     return arr
 
 
+def _is_int(text: str) -> bool:
+    try:
+        int(text)
+    except ValueError:
+        return False
+    return True
+
+
 def read_permutation(path, n: int | None = None, *, base: int | None = None) -> np.ndarray:
     """Read a permutation file and return it 0-based.
 
@@ -398,21 +406,15 @@ def read_permutation(path, n: int | None = None, *, base: int | None = None) -> 
                 lines = fh.read().split("\n")
         except OSError as exc:
             raise InputError(f"cannot read file ({exc.strerror})", src) from None
-        tokens = [t for t in (ln.strip() for ln in lines) if t and not t.startswith("#")]
+        stripped = [ln.strip() for ln in lines]
+        tokens = [t for t in stripped if t and not t.startswith("#")]
         try:  # one pass without per-line bookkeeping (10⁶ lines: 0.5 s instead of 2.3 s)
             arr = np.fromiter(map(int, tokens), dtype=np.int64, count=len(tokens))
-        except (ValueError, OverflowError):
-            arr = None
-        if arr is None:  # find the first bad line for the message
-            for lineno, line in enumerate(lines, 1):
-                t = line.strip()
-                if not t or t.startswith("#"):
-                    continue
-                try:
-                    int(t)
-                except ValueError:
-                    raise InputError(f"line {lineno}: '{t[:40]}' is not an integer", src) from None
-            raise InputError("indices out of the 64-bit integer range", src)
+        except ValueError:
+            bad = next(i for i, t in enumerate(stripped) if t and not t.startswith("#") and not _is_int(t))
+            raise InputError(f"line {bad + 1}: '{stripped[bad][:40]}' is not an integer", src) from None
+        except OverflowError:
+            raise InputError("indices out of the 64-bit integer range", src) from None
     arr = np.asarray(arr)
     if arr.size == 0 and (n is None or n > 0):
         raise InputError("permutation file is empty", src)

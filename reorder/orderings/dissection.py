@@ -465,7 +465,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     # The columns of a node's range depend only on the order inside it: its cost is the cost of its
     # own separator columns (fixed by the order of the separator alone) plus its children's, so one
     # global count serves for the whole bottom-up pass.
-    cc = symbolic_factor(graph, perm).colcounts.astype(np.float64)
+    cc = factor_column_counts(graph, perm).astype(np.float64)
     pre_c = np.concatenate(([0.0], np.cumsum(cc ** power)))
     pre_z = np.concatenate(([0.0], np.cumsum(cc)))
     cost_c = np.zeros(len(nodes))
