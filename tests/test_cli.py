@@ -94,6 +94,7 @@ def test_stats_table_and_npy(capsys, plate, tmp_path):
         lambda d, m: ["order", m, "-m", "nd", "--effort", "turbo", "-o", d / "p.txt"],
         lambda d, m: ["order", m, "-m", "rcm", "--effort", "fast", "-o", d / "p.txt"],
         lambda d, m: ["stats", m, "--effort", "fast"],
+        lambda d, m: ["order", m, "-m", "rcm", "--no-multisection", "-o", d / "p.txt"],
     ],
 )
 def test_user_errors_exit_2_one_line_no_output(capsys, plate, tmp_path, args_fn):
@@ -148,3 +149,18 @@ def test_effort_flag(capsys, plate, tmp_path):
     assert analyse(A, read_permutation(p, A.shape[0])).nnz_factor == summary["nnz_factor"]
     code, out, _ = run(capsys, "stats", plate, "-m", "nd", "--effort", "best", "--json")
     assert code == 0 and json.loads(out)["ordering"] == "nd"
+
+
+def test_multisection_flag(capsys, plate, tmp_path):
+    # --no-multisection reaches nd: the written tree has no multisector node and validates against
+    # the written permutation (tree checks of reorder.orderings.dissection)
+    from reorder.graph import from_matrix
+    from reorder.orderings.dissection import validate_tree
+
+    p, t = tmp_path / "p.txt", tmp_path / "t.json"
+    code, _, _ = run(capsys, "order", plate, "-m", "nd", "--no-multisection", "--tree", t, "-o", p)
+    assert code == 0
+    A = read_matrix(plate)
+    tree = json.loads(t.read_text())
+    assert not any(nd.get("multisector") for nd in tree["nodes"])
+    assert validate_tree(tree, read_permutation(p, A.shape[0]), from_matrix(A))

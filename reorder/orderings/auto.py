@@ -45,7 +45,7 @@ def _superlu_md(graph: Graph) -> np.ndarray:
 
 @register("auto", summary="best of nd, minimum degree and RCM by exact nnz(L)", split_components=False, rank=5)
 def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 5000, effort: str | None = None,
-         **options):
+         multisection: bool | None = None, **options):
     """Order by every candidate method and keep the smallest nnz(L) (ties: fewer operations, then
     the earlier candidate).
 
@@ -62,6 +62,8 @@ def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 500
         pattern, so it is kept to small inputs). 0 turns it off.
     effort : {"fast", "normal", "best"}, optional
         Passed to the ``nd`` candidate (see :func:`reorder.orderings.dissection.nested_dissection`).
+    multisection : bool, optional
+        Passed to the ``nd`` candidate (default: its own).
     **options
         Ignored (candidates run with their defaults).
 
@@ -87,7 +89,10 @@ def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 500
         t0 = time.perf_counter()
         try:
             get(name)
-            o = order(graph, name, seed=seed, **({"effort": effort} if effort and name == "nd" else {}))
+            nd_opts = {}
+            if name == "nd":
+                nd_opts = {k: v for k, v in (("effort", effort), ("multisection", multisection)) if v is not None}
+            o = order(graph, name, seed=seed, **nd_opts)
         except Exception as exc:  # a failing candidate must not sink the others
             results[name] = {"error": f"{type(exc).__name__}: {exc}"}
             continue
