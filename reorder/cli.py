@@ -74,7 +74,7 @@ def _check_method(name: str) -> str:
 
 
 EFFORT_HELP = ("nd (and auto's nd candidate): fast, normal (default) or best. fast suits a single factorization "
-               "(4-5x quicker on 10^4-row meshes, somewhat more fill); best polishes every size and keeps the best of "
+               "(5-7x quicker on 10^4-row meshes, somewhat more fill); best polishes every size and keeps the best of "
                "three runs.")
 
 MULTISECTION_HELP = ("nd, nd-fast and auto: let subtrees take the multisection order (leaves first, then all their "

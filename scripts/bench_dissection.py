@@ -269,6 +269,7 @@ def main():
     ap.add_argument("--no-suite", action="store_true", help="skip the suite rows")
     ap.add_argument("--cli-grid", type=int, default=1000, help="k for the end-to-end CLI run on a k x k grid (0: skip)")
     ap.add_argument("--scaling-efforts", default="normal,fast", help="nd efforts in the 2-D grid scaling run")
+    ap.add_argument("--merge", action="store_true", help="keep the sections of an existing --out file that this run skips")
     ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_dissection.json"))
     args = ap.parse_args()
 
@@ -302,10 +303,16 @@ def main():
     sizes = [k for k in (125, 250, 500, 1000) if k <= args.max_grid]
     scaling = run_scaling(sizes, [e for e in args.scaling_efforts.split(",") if e]) if sizes else []
     cli = run_cli(args.cli_grid) if args.cli_grid else {}
-    Path(args.out).parent.mkdir(parents=True, exist_ok=True)
-    Path(args.out).write_text(json.dumps({"rows": rows, "summary": summary, "scaling": scaling,
-                                           "auto_suite": auto_rows, "factor_sweep": sweep, "cli": cli},
-                                          indent=1))
+    result = {"rows": rows, "summary": summary, "scaling": scaling, "auto_suite": auto_rows,
+              "factor_sweep": sweep, "cli": cli}
+    out = Path(args.out)
+    if args.merge and out.exists():  # keep the sections this run skipped
+        old = json.loads(out.read_text())
+        skipped = {"rows": not cases, "summary": not cases, "scaling": not sizes, "auto_suite": not args.auto_suite,
+                   "factor_sweep": not sweep_sizes, "cli": not args.cli_grid}
+        result.update({k: old[k] for k, skip in skipped.items() if skip and k in old})
+    out.parent.mkdir(parents=True, exist_ok=True)
+    out.write_text(json.dumps(result, indent=1))
     print(f"\nwrote {args.out}")
 
 

@@ -67,6 +67,10 @@ __all__ = ["EFFORTS", "nested_dissection", "nested_dissection_fast", "recursive_
 #: many factor entries per column (they cost seconds on dense factors, e.g. power-law graphs)
 EXACT_MAX_FILL = 100
 
+#: multisection is not tried where the cliques of the leaf boundaries would hold more than this many
+#: times the entries of the subtree's graph (meshes: 3-8 times)
+MULTISECTOR_MAX_GROWTH = 30
+
 #: presets of :func:`nested_dissection` (``effort``), cheapest first
 EFFORTS = ("fast", "normal", "best")
 
@@ -250,11 +254,12 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         subtree (leaves first, then all its separators together by minimum degree of the graph
         left after the leaves; Ashcraft & Liu 1998). A node won so has ``"multisector": true`` in
         the tree, its whole multisector as separator and two groups of leaves as children (the
-        tree is flatter there; turn this off for a purely binary dissection tree). Default on,
-        except with ``effort="fast"``. Measured over the bundled meshes (n ≥ 10⁴, normal effort):
-        geometric means of nnz(L) 1.2% and operations 3% lower, up to 14% fewer operations on the
-        heat sink, for about 25% more ordering time; with ``"fast"`` under 1% gained for 10-25%
-        more time.
+        tree is flatter there; turn this off where every separator node must be one bisection
+        separator). Default on where the full polish is (``"normal"`` up to 100 000 vertices,
+        ``"best"``). Measured over the bundled meshes (n ≥ 10⁴, normal effort): geometric means
+        of nnz(L) 1.2% and operations 3% lower, up to 14% fewer operations on the heat sink, for
+        about 25% more ordering time; with the cheaper settings under 1% gained for 10-25% more
+        time (10⁶ grid: 44 s instead of 30 s).
     restarts, restart_key : int, str
         Whole runs with different seeds (``seed + 1009 r``), keeping the least nnz(L) (or
         operations with ``restart_key="ops"``); default 1, 3 with ``effort="best"``. Three restarts
@@ -306,7 +311,7 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     if restarts is None:
         restarts = 3 if effort == "best" else 1
     if multisection is None:
-        multisection = effort != "fast"
+        multisection = not big
     best = None
     tried = []
     with _single_thread_blas():
@@ -455,7 +460,8 @@ def _multisector_graph(g: Graph, leaf_loc: np.ndarray, sep_loc: np.ndarray, halo
 
     Vertices ``sep_loc`` then ``halo_loc`` (in that order) of ``g``; two of them are joined if they
     are adjacent in ``g`` or both touch one connected component of the leaf vertices (eliminating
-    a connected set makes its boundary a clique).
+    a connected set makes its boundary a clique). None if those cliques would hold more than
+    ``MULTISECTOR_MAX_GROWTH`` times the entries of ``g``.
     """
     A = g.to_csr()
     t_loc = np.concatenate((sep_loc, halo_loc))
@@ -467,6 +473,9 @@ def _multisector_graph(g: Graph, leaf_loc: np.ndarray, sep_loc: np.ndarray, halo
     keep = comp[B.col] >= 0
     nc = int(lab.max()) + 1 if lab.size else 0
     B = sp.csr_matrix((np.ones(int(keep.sum())), (B.row[keep], comp[B.col[keep]])), shape=(t_loc.size, nc))
+    boundary = np.diff(B.tocsc().indptr).astype(np.float64)
+    if float(np.sum(boundary ** 2)) > MULTISECTOR_MAX_GROWTH * max(g.indices.size, 1000):
+        return None  # the cliques would be far denser than the graph (hubs of power-law graphs)
     R = (B @ B.T + A[t_loc][:, t_loc]).tocsr()
     R.setdiag(0)
     R.eliminate_zeros()
@@ -562,9 +571,10 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
                 lp[a - s:b - s] = True
             leaf_loc, sep_loc = pos_loc[lp], pos_loc[~lp]
             rg = _multisector_graph(g, leaf_loc, sep_loc, hl)
-            rmask = np.zeros(rg.n, dtype=bool)
-            rmask[:sep_loc.size] = True
-            candidates.append(("multisection", rg, rmask, (leaf_loc, sep_loc)))
+            if rg is not None:
+                rmask = np.zeros(rg.n, dtype=bool)
+                rmask[:sep_loc.size] = True
+                candidates.append(("multisection", rg, rmask, (leaf_loc, sep_loc)))
         for kind, gg, mask, parts in candidates:
             for sc in rules:
                 name, _, tie = sc.partition("/")
