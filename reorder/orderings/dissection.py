@@ -255,11 +255,11 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         left after the leaves; Ashcraft & Liu 1998). A node won so has ``"multisector": true`` in
         the tree, its whole multisector as separator and two groups of leaves as children (the
         tree is flatter there; turn this off where every separator node must be one bisection
-        separator). Default on where the full polish is (``"normal"`` up to 100 000 vertices,
-        ``"best"``). Measured over the bundled meshes (n ≥ 10⁴, normal effort): geometric means
-        of nnz(L) 1.2% and operations 3% lower, up to 14% fewer operations on the heat sink, for
-        about 25% more ordering time; with the cheaper settings under 1% gained for 10-25% more
-        time (10⁶ grid: 44 s instead of 30 s).
+        separator). Default on with ``"best"`` and with ``"normal"`` up to 30 000 vertices.
+        Measured over the bundled meshes (n ≥ 10⁴, normal effort): geometric means of nnz(L)
+        1.2% and operations 3% lower, up to 14% fewer operations on the heat sink, for about 25%
+        more ordering time; with the cheaper settings under 1% gained for 10-25% more time (10⁶
+        grid: 44 s instead of 30 s); on a 40³ grid nothing gained for 44 s instead of 31 s.
     restarts, restart_key : int, str
         Whole runs with different seeds (``seed + 1009 r``), keeping the least nnz(L) (or
         operations with ``restart_key="ops"``); default 1, 3 with ``effort="best"``. Three restarts
@@ -311,7 +311,7 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     if restarts is None:
         restarts = 3 if effort == "best" else 1
     if multisection is None:
-        multisection = not big
+        multisection = effort == "best" or (effort == "normal" and graph.n <= 30_000)
     best = None
     tried = []
     with _single_thread_blas():
@@ -496,9 +496,10 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     (a) the halo minimum degree of the whole range and (b) with ``multisection``, for separator
     nodes, the multisection order: the leaves of the subtree first in their current order, then all
     separator vertices of the subtree together (the multisector) in the minimum-degree order of the
-    graph left once the leaves are eliminated, each under every pivot rule in ``scores``. The least
-    cost of the range's own columns (``key``: ``"nnz"`` = Σ c_j, ``"ops"`` = Σ c_j²; exact symbolic
-    counts with the halo eliminated last) wins. The columns of the range do not depend on the order
+    graph left once the leaves are eliminated, each under every pivot rule in ``scores`` (and, for a
+    multisector without halo, e.g. the root's, with several rules, also :func:`minimum_degree`'s
+    ``"auto"``). The least cost of the range's own columns (``key``: ``"nnz"`` = Σ c_j, ``"ops"`` =
+    Σ c_j²; exact symbolic counts with the halo eliminated last) wins. The columns of the range do not depend on the order
     outside it, and the halo's columns do not depend on the order inside (eliminating a connected
     set joins all its halo), so the choices add up exactly. A node won by minimum degree becomes a
     leaf and its subtree is pruned; a node won by multisection keeps its leaves, split into two
@@ -515,7 +516,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     degree by exact counts); Pellegrini, Roman & Amestoy (2000) for the halo minimum degree.
     """
 
-    _, halo = _mindegree_funcs()
+    md, halo = _mindegree_funcs()
     stats = {"subtrees_tried": 0, "subtrees_to_mindegree": 0, "subtrees_multisected": 0, "leaves_rescored": 0}
     if halo is None or not nodes:
         return nodes, stats
@@ -576,11 +577,17 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
                 rmask[:sep_loc.size] = True
                 candidates.append(("multisection", rg, rmask, (leaf_loc, sep_loc)))
         for kind, gg, mask, parts in candidates:
-            for sc in rules:
+            # a multisector without halo (the root) is a graph of its own: minimum degree's "auto"
+            # (every pivot rule and tie order, kept by its own exact count) joins the rules
+            extra = ("auto",) if kind == "multisection" and hl.size == 0 and len(rules) > 1 else ()
+            for sc in tuple(rules) + extra:
                 name, _, tie = sc.partition("/")
                 if name.startswith("exact") and nnz_best > EXACT_MAX_FILL * m:
                     continue  # exact degrees are slow where the factor is dense (power-law graphs)
-                loc = np.asarray(halo(gg, mask, seed=int(tie or 0), score=name), dtype=np.int64)
+                if name == "auto":
+                    loc = np.asarray(md(gg, seed=seed, score="auto")[0], dtype=np.int64)
+                else:
+                    loc = np.asarray(halo(gg, mask, seed=int(tie or 0), score=name), dtype=np.int64)
                 if parts is not None:
                     loc = np.concatenate((parts[0], parts[1][loc]))
                 c, nz = cost(loc)
