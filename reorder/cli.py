@@ -78,7 +78,8 @@ EFFORT_HELP = ("nd (and auto's nd candidate): fast, normal (default) or best. fa
                "three runs.")
 
 MULTISECTION_HELP = ("nd, nd-fast and auto: let subtrees take the multisection order (leaves first, then all their "
-                     "separators by minimum degree) where the exact fill is lower; default on up to 30 000 rows with effort normal, and with best. "
+                     "separators by minimum degree) where the exact fill is lower; default on up to 30 000 rows "
+                     "with effort normal, and with best. "
                      "--no-multisection keeps every separator of the tree (--tree) a single dissection separator.")
 
 

@@ -469,14 +469,15 @@ def _multisector_graph(g: Graph, leaf_loc: np.ndarray, sep_loc: np.ndarray, halo
     _, lab = _k.component_labels(ip, ix)
     comp = np.full(g.n, -1, dtype=np.int64)
     comp[leaf_loc] = lab
-    B = A[t_loc].tocoo()
+    At = A[t_loc]
+    B = At.tocoo()
     keep = comp[B.col] >= 0
     nc = int(lab.max()) + 1 if lab.size else 0
     B = sp.csr_matrix((np.ones(int(keep.sum())), (B.row[keep], comp[B.col[keep]])), shape=(t_loc.size, nc))
     boundary = np.diff(B.tocsc().indptr).astype(np.float64)
     if float(np.sum(boundary ** 2)) > MULTISECTOR_MAX_GROWTH * max(g.indices.size, 1000):
         return None  # the cliques would be far denser than the graph (hubs of power-law graphs)
-    R = (B @ B.T + A[t_loc][:, t_loc]).tocsr()
+    R = (B @ B.T + At[:, t_loc]).tocsr()
     R.setdiag(0)
     R.eliminate_zeros()
     R.sort_indices()
@@ -499,9 +500,9 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     graph left once the leaves are eliminated, each under every pivot rule in ``scores`` (and, for a
     multisector without halo, e.g. the root's, with several rules, also :func:`minimum_degree`'s
     ``"auto"``). The least cost of the range's own columns (``key``: ``"nnz"`` = Σ c_j, ``"ops"`` =
-    Σ c_j²; exact symbolic counts with the halo eliminated last) wins. The columns of the range do not depend on the order
-    outside it, and the halo's columns do not depend on the order inside (eliminating a connected
-    set joins all its halo), so the choices add up exactly. A node won by minimum degree becomes a
+    Σ c_j²; exact symbolic counts with the halo eliminated last) wins. The columns of the range do
+    not depend on the order outside it, and the halo's columns do not depend on the order inside
+    (eliminating a connected set joins all its halo), so the choices add up exactly. A node won by minimum degree becomes a
     leaf and its subtree is pruned; a node won by multisection keeps its leaves, split into two
     groups of consecutive leaves (``"components"`` nodes: no edge joins two leaves once the
     multisector is removed), and the multisector as its separator (node key ``"multisector"``).
@@ -605,7 +606,6 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
             stats["subtrees_to_mindegree"] += 1
             leaves[nid] = [(s, t)]
             nd.update(kind="leaf", separator=0, sizes=[])
-            ms_node[nid] = False
         else:
             stats["subtrees_multisected"] += 1
             sizes = [b - a for a, b in leaves[nid]]
