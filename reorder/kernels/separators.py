@@ -8,8 +8,6 @@ the separator.
 
 from __future__ import annotations
 
-import heapq
-
 import numpy as np
 from numba import njit
 
@@ -352,41 +350,101 @@ def _move_gains(indptr, indices, vweight, part, v):
 
 
 @njit(cache=True)
+def _heap_push(h, size, key):
+    """Push ``key`` on the binary min-heap ``h[:size]`` (grown by doubling); returns ``(h, size)``."""
+    if size == h.size:
+        grown = np.empty(2 * h.size, dtype=np.int64)
+        grown[:size] = h[:size]
+        h = grown
+    i = size
+    while i > 0:
+        up = (i - 1) >> 1
+        if h[up] <= key:
+            break
+        h[i] = h[up]
+        i = up
+    h[i] = key
+    return h, size + 1
+
+
+@njit(cache=True)
+def _heap_pop(h, size):
+    """Remove the least key of the binary min-heap ``h[:size]``; returns the new size."""
+    size -= 1
+    if size <= 0:
+        return 0
+    key = h[size]
+    i = 0
+    while True:
+        c = 2 * i + 1
+        if c >= size:
+            break
+        if c + 1 < size and h[c + 1] < h[c]:
+            c += 1
+        if h[c] >= key:
+            break
+        h[i] = h[c]
+        i = c
+    h[i] = key
+    return size
+
+
+@njit(cache=True)
 def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
     """Fiduccia–Mattheyses refinement of a vertex separator, in place.
 
     A move takes a separator vertex ``v`` to side ``s``; its neighbours on the other side join the
     separator. Gain = weight(v) − weight of those neighbours. Each pass moves unlocked separator
-    vertices by best gain (lazy binary heaps), never letting a side exceed ``maxside``, stops after
-    ``limit`` moves without improvement and rolls back to the best state seen, compared by
-    (balance violation, separator weight, |w0 − w1|). Passes repeat while they improve.
+    vertices by best gain (lazy binary heaps, ties to the lower index), never letting a side exceed
+    ``maxside``, stops after ``limit`` moves without improvement and rolls back to the best state
+    seen, compared by (balance violation, separator weight, |w0 − w1|). Passes repeat while they
+    improve.
+
+    Work per pass is proportional to the separator and the moves (plus their neighbourhoods), not
+    to the graph: the separator list is carried from pass to pass. Heap keys are int64
+    ``(offset − gain) · n + v``, so the pop order is that of the pairs (−gain, v).
 
     Returns the side weights ``[w0, w1, w_sep]``.
     """
     n = indptr.size - 1
     w = np.zeros(3, dtype=np.int64)
+    nsep = 0
     for v in range(n):
         w[part[v]] += vweight[v]
-    gain = np.zeros((2, n), dtype=np.int64)
+        if part[v] == 2:
+            nsep += 1
+    sep = np.empty(max(nsep, 1), dtype=np.int64)
+    nsep = 0
+    for v in range(n):
+        if part[v] == 2:
+            sep[nsep] = v
+            nsep += 1
+    offset = w[0] + w[1] + w[2] + 1  # |gain| <= total weight: keys stay non-negative
+    gain = np.empty((2, n), dtype=np.int64)
     lock = np.full(n, -1, dtype=np.int64)
+    seen = np.full(n, -1, dtype=np.int64)
     moves = np.empty(n, dtype=np.int64)
     mstart = np.empty(n + 1, dtype=np.int64)
     pulled = np.empty(indptr[n] + 1, dtype=np.int64)
+    h0 = np.empty(4 * nsep + 16, dtype=np.int64)
+    h1 = np.empty(4 * nsep + 16, dtype=np.int64)
     for it in range(passes):
-        h0 = [(np.int64(0), np.int64(0))]
-        h1 = [(np.int64(0), np.int64(0))]
-        h0.pop()
-        h1.pop()
-        for v in range(n):
-            if part[v] != 2:
-                continue
+        for i in range(nsep):
+            v = sep[i]
             g0, g1 = _move_gains(indptr, indices, vweight, part, v)
             gain[0, v] = g0
             gain[1, v] = g1
-            h0.append((-g0, v))
-            h1.append((-g1, v))
-        heapq.heapify(h0)
-        heapq.heapify(h1)
+        if h0.size < nsep:
+            h0 = np.empty(2 * nsep, dtype=np.int64)
+            h1 = np.empty(2 * nsep, dtype=np.int64)
+        for i in range(nsep):
+            v = sep[i]
+            h0[i] = (offset - gain[0, v]) * n + v
+            h1[i] = (offset - gain[1, v]) * n + v
+        s0 = nsep
+        s1 = nsep
+        h0[:s0].sort()  # a sorted array is a heap
+        h1[:s1].sort()
         best_viol = _viol(w[0], w[1], maxside)
         best_sep = w[2]
         best_imb = abs(w[0] - w[1])
@@ -396,16 +454,16 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
         since = 0
         while True:
             # discard stale heap tops
-            while len(h0) > 0:
-                g, v = h0[0]
-                if part[v] != 2 or lock[v] == it or -g != gain[0, v]:
-                    heapq.heappop(h0)
+            while s0 > 0:
+                v = h0[0] % n
+                if part[v] != 2 or lock[v] == it or offset - h0[0] // n != gain[0, v]:
+                    s0 = _heap_pop(h0, s0)
                 else:
                     break
-            while len(h1) > 0:
-                g, v = h1[0]
-                if part[v] != 2 or lock[v] == it or -g != gain[1, v]:
-                    heapq.heappop(h1)
+            while s1 > 0:
+                v = h1[0] % n
+                if part[v] != 2 or lock[v] == it or offset - h1[0] // n != gain[1, v]:
+                    s1 = _heap_pop(h1, s1)
                 else:
                     break
             ok0 = False
@@ -414,12 +472,12 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
             v1 = -1
             g0 = 0
             g1 = 0
-            if len(h0) > 0:
-                v0 = h0[0][1]
+            if s0 > 0:
+                v0 = h0[0] % n
                 g0 = gain[0, v0]
                 ok0 = w[0] + vweight[v0] <= maxside
-            if len(h1) > 0:
-                v1 = h1[0][1]
+            if s1 > 0:
+                v1 = h1[0] % n
                 g1 = gain[1, v1]
                 ok1 = w[1] + vweight[v1] <= maxside
             if not ok0 and not ok1:
@@ -435,10 +493,10 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
                 to = 1
             if to == 0:
                 v = v0
-                heapq.heappop(h0)
+                s0 = _heap_pop(h0, s0)
             else:
                 v = v1
-                heapq.heappop(h1)
+                s1 = _heap_pop(h1, s1)
             other = 1 - to
             part[v] = to
             w[2] -= vweight[v]
@@ -475,17 +533,17 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
             for p in range(indptr[v], indptr[v + 1]):
                 x = indices[p]
                 if part[x] == 2 and lock[x] != it:
-                    heapq.heappush(h0, (-gain[0, x], x))
-                    heapq.heappush(h1, (-gain[1, x], x))
+                    h0, s0 = _heap_push(h0, s0, (offset - gain[0, x]) * n + x)
+                    h1, s1 = _heap_push(h1, s1, (offset - gain[1, x]) * n + x)
             for q in range(first, npl):
                 u = pulled[q]
                 for p in range(indptr[u], indptr[u + 1]):
                     x = indices[p]
                     if part[x] == 2 and lock[x] != it:
                         if to == 0:
-                            heapq.heappush(h0, (-gain[0, x], x))
+                            h0, s0 = _heap_push(h0, s0, (offset - gain[0, x]) * n + x)
                         else:
-                            heapq.heappush(h1, (-gain[1, x], x))
+                            h1, s1 = _heap_push(h1, s1, (offset - gain[1, x]) * n + x)
             nm += 1
             mstart[nm] = npl
             vi = _viol(w[0], w[1], maxside)
@@ -515,6 +573,35 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
             w[2] += vweight[v]
         if best_k == 0:
             break
+        # the new separator: old separator vertices not moved, and the vertices pulled in by the
+        # kept moves (a pulled vertex may have been pulled twice; `seen` drops repeats)
+        cnt = 0
+        for i in range(nsep):
+            x = sep[i]
+            if part[x] == 2 and seen[x] != it:
+                seen[x] = it
+                cnt += 1
+        for q in range(mstart[best_k]):
+            x = pulled[q]
+            if part[x] == 2 and seen[x] != it:
+                seen[x] = it
+                cnt += 1
+        new = np.empty(max(cnt, 1), dtype=np.int64)
+        cnt = 0
+        for i in range(nsep):
+            x = sep[i]
+            if part[x] == 2 and seen[x] == it:
+                seen[x] = -2 - it
+                new[cnt] = x
+                cnt += 1
+        for q in range(mstart[best_k]):
+            x = pulled[q]
+            if part[x] == 2 and seen[x] == it:
+                seen[x] = -2 - it
+                new[cnt] = x
+                cnt += 1
+        sep = new
+        nsep = cnt
     return w
 
 
