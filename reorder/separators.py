@@ -260,9 +260,15 @@ def _pseudo_peripheral_distance(indptr, indices):
     return dist.astype(np.float64)
 
 
+# the 10 directions of {-1, 0, 1}³ (up to sign) that are not axes: diagonals of faces and of the cube
+_DIRECTIONS3 = ((1, 1, 0), (1, -1, 0), (1, 0, 1), (1, 0, -1), (0, 1, 1), (0, 1, -1),
+                (1, 1, 1), (1, 1, -1), (1, -1, 1), (1, -1, -1))
+
+
 def _candidate_vectors(indptr, indices, ewgt, seed, k):
-    """Fiedler vector (and the next eigenvectors with their sums/differences) of a small weighted
-    graph from the spectral engine; BFS distance as fallback."""
+    """Fiedler vector (and the next eigenvectors with their sums/differences; with three, the 10
+    diagonal directions of their span) of a small weighted graph from the spectral engine; BFS
+    distance as fallback."""
     from .spectral import fiedler_vector
 
     n = indptr.size - 1
@@ -276,9 +282,11 @@ def _candidate_vectors(indptr, indices, ewgt, seed, k):
         if res.vectors is not None and res.vectors.ndim == 2 and res.vectors.shape[1] > 1:
             V = res.vectors
             vecs = [V[:, j] for j in range(V.shape[1])]
-            if V.shape[1] >= 2:
+            if V.shape[1] == 2:
                 a, b = V[:, 0], V[:, 1]
                 vecs += [a + b, a - b]
+            elif V.shape[1] >= 3:
+                vecs += [V[:, :3] @ np.asarray(d, dtype=np.float64) for d in _DIRECTIONS3]
         else:
             vecs = [res.vector]
     except Exception as exc:  # eigensolver failure: fall back to a level structure
@@ -338,8 +346,11 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     coarse_size : int
         Coarsening stops at about this many vertices.
     eigenvectors : int
-        Eigenvectors computed on the coarsest graph; with two or more, their sum and difference are
-        tried too (square meshes have a double λ₂).
+        Eigenvectors computed on the coarsest graph; with two, their sum and difference are tried
+        too (square meshes have a double λ₂); with three or more, the 10 diagonal directions of the
+        first three's span (face and cube diagonals). Each spectral vector is also smoothed up to
+        the finest level (``smooth``) and split there; of more than four, the four with the least
+        cover are refined.
     spectral_min : int
         Graphs with fewer vertices skip the eigensolver and use only breadth-first candidates (the
         cheap path for the many small subproblems of nested dissection).
@@ -408,13 +419,21 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, mu
     best, best_key = None, None
     if smooth and nspectral and len(levels) > 1:
         # interpolated, smoothed eigenvectors split at the finest level (the projected separators
-        # above follow the coarse graph's shape; these follow the fine graph's spectrum)
+        # above follow the coarse graph's shape; these follow the fine graph's spectrum). With more
+        # than four vectors (three eigenvectors: 13 directions) only the four least covers are
+        # refined: FM is the costly step, and the cover ranks the directions well
+        fine = []
+        maxside_n = _max_side(n, balance)
         for j, vec in enumerate(_smooth_up(levels, vecs[:nspectral], steps=smooth)):
             p2, _ = split_vector(indptr, indices, vec, balance=balance, mode=mode)
             part = cover_separator(indptr, indices, p2)
+            fine.append((_score(np.bincount(part, minlength=3), maxside_n), j, part))
+        if len(fine) > 4:
+            fine = sorted(fine, key=lambda t: (t[0], t[1]))[:4]
+        for key, j, part in fine:
             if refine:
                 refine_separator(indptr, indices, part, balance=balance)
-            key = _score(np.bincount(part, minlength=3), _max_side(n, balance))
+                key = _score(np.bincount(part, minlength=3), maxside_n)
             if best_key is None or key < best_key:
                 best, best_key, info["candidate"] = part, key, f"smoothed {j}"
     for key, j, part in cands:

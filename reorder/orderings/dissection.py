@@ -180,6 +180,7 @@ def _pack_components(labels: np.ndarray, ncomp: int, leaf_size: int) -> list[np.
 def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = None, balance: float = 0.3,
                       multilevel: bool = True, refine: bool = True, split: str = "window",
                       leaf_order: str = "auto", coarse_size: int = 100, eigenvectors: int = 2,
+                      top_eigenvectors: int | None = None,
                       spectral_min: int | None = None, trials: int | None = None, trials_min: int = 0,
                       ratio_key: bool = True, top_trials: int | None = None, top_fraction: float = 0.1,
                       keep: int | None = None, smooth: int | None = None, hybrid_max: int | None = None,
@@ -219,6 +220,14 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
     coarse_size, eigenvectors, spectral_min : int
         Passed to :func:`reorder.separators.vertex_separator` (``spectral_min`` default 500, or
         2000 above 100 000 vertices: the eigensolver call per small subproblem costs time).
+    top_eigenvectors : int, optional
+        Eigenvectors for the top subproblems (see ``top_fraction``). Default 3 (2 with the cheaper
+        settings): with three, the 10 diagonal directions of their span are split as well, each
+        smoothed up to the finest level where the four least covers are refined (more cut
+        directions for 3-D meshes, whose coarsest-graph eigenvectors only roughly follow the
+        fine graph's): on a 27-point 22³ grid the top separator became a plane (484-506 vertices
+        instead of 507-590) and operations fell by 12-15%; over the bundled meshes, seeds 0-2,
+        geometric means nnz(L) 0.2% and operations 0.9% lower for about 15% more time (measured).
     trials : int, optional
         Separators computed per subproblem (different seeds; the smallest is kept, or the best
         separator-versus-balance ratio with ``ratio_key``). Default: 2 for graphs up to 300 000
@@ -312,6 +321,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         hybrid_scores = ("degree",) if big else ("degree", "mean_fill", "fill", "exact", "degree/1")
     if restarts is None:
         restarts = 3 if effort == "best" else 1
+    if top_eigenvectors is None:
+        top_eigenvectors = eigenvectors if big else max(int(eigenvectors), 3)
     if multisection is None:
         multisection = effort == "best" or (effort == "normal" and graph.n <= 30_000)
     best = None
@@ -321,7 +332,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
             perm, info = _nested_dissection(
                 graph, seed=seed + 1009 * r, leaf_size=leaf_size, balance=balance, multilevel=multilevel,
                 refine=refine, split=split, leaf_order=leaf_order, coarse_size=coarse_size,
-                eigenvectors=eigenvectors, spectral_min=spectral_min, trials=trials, trials_min=trials_min,
+                eigenvectors=(int(eigenvectors), int(top_eigenvectors)), spectral_min=spectral_min, trials=trials,
+                trials_min=trials_min,
                 ratio_key=ratio_key, top_trials=top_trials, top_fraction=top_fraction,
                 keep=(int(keep), top_keep), smooth=(int(smooth), top_smooth),
                 hybrid_max=hybrid_max, hybrid_scores=hybrid_scores, hybrid_key=hybrid_key,
@@ -418,7 +430,7 @@ def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, s
         for t in range(ntr):
             sep = vertex_separator(ip, ix, seed=_seed(seed + 7 * t, len(nodes)), balance=balance,
                                    multilevel=multilevel, refine=refine, mode=split, coarse_size=coarse_size,
-                                   eigenvectors=eigenvectors, spectral_min=spectral_min,
+                                   eigenvectors=eigenvectors[top], spectral_min=spectral_min,
                                    keep=keep[top], smooth=smooth[top])
             a, b, c = sep.sizes
             ok = c > 0 and a > 0 and b > 0
