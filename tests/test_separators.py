@@ -110,3 +110,31 @@ def test_deterministic():
     a = vertex_separator(G.indptr, G.indices, seed=4).part
     b = vertex_separator(G.indptr, G.indices, seed=4).part
     assert np.array_equal(a, b)
+
+
+@pytest.mark.parametrize("n", [1, 7, 2048, 2049, 5000, 65536])
+def test_local_random_order_is_a_permutation(n):
+    from reorder.separators import _local_random_order
+
+    a = _local_random_order(n, np.random.default_rng(3))
+    assert np.array_equal(np.sort(a), np.arange(n))  # a permutation (common practice check)
+    assert np.array_equal(a, _local_random_order(n, np.random.default_rng(3)))  # same seed, same order
+    if n > 2048:
+        assert not np.array_equal(a, np.arange(n))
+
+
+def test_weighted_refinement_over_several_passes():
+    # vertex weights, several passes: the returned side weights must equal a recount (NumPy
+    # bincount), the result must still separate, no side may leave the balance window it started in,
+    # and the separator weight may only fall
+    G = from_matrix(grid3d(14))
+    rng = np.random.default_rng(1)
+    vw = rng.integers(1, 6, G.n).astype(np.int64)
+    part, _ = split_vector(G.indptr, G.indices, rng.random(G.n), balance=0.45)
+    part = cover_separator(G.indptr, G.indices, part)
+    before = int(vw[part == 2].sum())
+    w = refine_separator(G.indptr, G.indices, part, vweight=vw, balance=0.3, passes=8)
+    assert np.array_equal(w, np.bincount(part, weights=vw, minlength=3).astype(np.int64))
+    assert check_separator(G.indptr, G.indices, part)
+    assert w[2] <= before
+    assert max(w[0], w[1]) <= np.floor(0.7 * vw.sum() + 1e-9)
