@@ -408,17 +408,10 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
     """
     n = indptr.size - 1
     w = np.zeros(3, dtype=np.int64)
-    nsep = 0
     for v in range(n):
         w[part[v]] += vweight[v]
-        if part[v] == 2:
-            nsep += 1
-    sep = np.empty(max(nsep, 1), dtype=np.int64)
-    nsep = 0
-    for v in range(n):
-        if part[v] == 2:
-            sep[nsep] = v
-            nsep += 1
+    sep = np.flatnonzero(part == 2).astype(np.int64)
+    nsep = sep.size
     offset = w[0] + w[1] + w[2] + 1  # |gain| <= total weight: keys stay non-negative
     gain = np.empty((2, n), dtype=np.int64)
     lock = np.full(n, -1, dtype=np.int64)
@@ -574,30 +567,13 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
         if best_k == 0:
             break
         # the new separator: old separator vertices not moved, and the vertices pulled in by the
-        # kept moves (a pulled vertex may have been pulled twice; `seen` drops repeats)
+        # kept moves (a vertex may have been pulled twice; `seen` drops repeats)
+        new = np.empty(nsep + mstart[best_k], dtype=np.int64)
         cnt = 0
-        for i in range(nsep):
-            x = sep[i]
+        for q in range(nsep + mstart[best_k]):
+            x = sep[q] if q < nsep else pulled[q - nsep]
             if part[x] == 2 and seen[x] != it:
                 seen[x] = it
-                cnt += 1
-        for q in range(mstart[best_k]):
-            x = pulled[q]
-            if part[x] == 2 and seen[x] != it:
-                seen[x] = it
-                cnt += 1
-        new = np.empty(max(cnt, 1), dtype=np.int64)
-        cnt = 0
-        for i in range(nsep):
-            x = sep[i]
-            if part[x] == 2 and seen[x] == it:
-                seen[x] = -2 - it
-                new[cnt] = x
-                cnt += 1
-        for q in range(mstart[best_k]):
-            x = pulled[q]
-            if part[x] == 2 and seen[x] == it:
-                seen[x] = -2 - it
                 new[cnt] = x
                 cnt += 1
         sep = new
