@@ -12,6 +12,7 @@ Usage::
     python scripts/bench_dissection.py                 # suite + scaling up to 1000x1000
     python scripts/bench_dissection.py --max-grid 500  # smaller scaling run
     python scripts/bench_dissection.py --variants      # also the plain / no-refinement variants
+    python scripts/bench_dissection.py --references    # calibration: plain nd, our mindegree, geometric nd
     python scripts/bench_dissection.py --factor        # also time SuperLU factorizations on 3-D cases
     python scripts/bench_dissection.py --auto-suite    # also auto vs best of RCM / SciPy MD, whole suite
     python scripts/bench_dissection.py --efforts fast,normal  # suite rows for each nd effort
@@ -19,7 +20,9 @@ Usage::
 
 Time to factor compares ``t(order by nd) + t(SuperLU, natural order, no pivoting)`` with ``t(splu
 with its own minimum degree)`` (which includes SuperLU's ordering time); each is the least of
-``--repeat`` runs (the machine is noisy).
+``--repeat`` runs (the machine is noisy). The sweep also prints the ordering *budget*,
+``0.5 · t(splu with its own minimum degree) − t(SuperLU, natural order)``: what an ordering may cost
+for the ratio to reach 0.5 with the factor time it gave.
 """
 
 from __future__ import annotations
@@ -27,6 +30,7 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import re
 import time
 from pathlib import Path
 
@@ -103,7 +107,7 @@ def run_suite(cases, variants, with_auto, factor, efforts=("normal",)):
         s0 = symbolic_factor(G, pm)
         methods = [("nd" if e == "normal" else f"nd-{e}", {} if e == "normal" else {"effort": e}) for e in efforts]
         if variants:
-            methods += [("nd-plain", dict(multilevel=False, refine=False, split="median")),
+            methods += [("nd-plain", dict(PLAIN)),
                         ("nd-norefine", dict(refine=False)), ("nd-trials1", dict(trials=1))]
         if with_auto:
             methods.append(("auto", {}))
@@ -129,6 +133,88 @@ def run_suite(cases, variants, with_auto, factor, efforts=("normal",)):
             print(f"{name:28s} {kind:7s} {G.n:8d} {label:10s} {r['nnz_ratio']:8.3f} {r['ops_ratio']:8.3f} "
                   f"{o.seconds:7.2f} {t_md:7.2f}{extra}", flush=True)
     return rows
+
+
+def geometric_nd(shape):
+    """Textbook nested dissection of a box grid (row-major numbering): split the longest side of
+    each box by its middle grid line / plane, order the two halves, then the cut, down to single
+    vertices (George 1973, SIAM J. Numer. Anal. 10; George & Liu 1981, chapter 8). A middle line
+    separates every 5-/9-point and 7-/27-point stencil (they reach one step)."""
+    shape = tuple(int(x) for x in shape)
+    idx = np.arange(int(np.prod(shape)), dtype=np.int64).reshape(shape)
+    out = []
+    stack = [(tuple(slice(0, k) for k in shape), False)]
+    while stack:
+        box, emit = stack.pop()
+        if emit:
+            out.append(idx[box].ravel())
+            continue
+        lens = [s.stop - s.start for s in box]
+        if min(lens) <= 0:
+            continue
+        if max(lens) <= 1:
+            out.append(idx[box].ravel())
+            continue
+        ax = int(np.argmax(lens))
+        mid = (box[ax].start + box[ax].stop) // 2
+        lo = box[:ax] + (slice(box[ax].start, mid),) + box[ax + 1:]
+        hi = box[:ax] + (slice(mid + 1, box[ax].stop),) + box[ax + 1:]
+        cut = box[:ax] + (slice(mid, mid + 1),) + box[ax + 1:]
+        stack += [(cut, True), (hi, False), (lo, False)]  # popped: lo, hi, then the cut
+    return np.concatenate(out)
+
+
+def _grid_of(name, A):
+    """(shape) of a bundled structured grid whose pattern is the row-major stencil grid, else None."""
+    import pyamg
+
+    m = re.match(r"grid([23])d_(\d+)pt_(\d+(?:x\d+)+)$", name)
+    if not m:
+        return None
+    shape = tuple(int(x) for x in m.group(3).split("x"))
+    dim, pts = int(m.group(1)), int(m.group(2))
+    stencil = np.ones((3,) * dim) if pts == 3 ** dim else None
+    B = pyamg.gallery.stencil_grid(stencil, shape).tocsr() if stencil is not None \
+        else pyamg.gallery.poisson(shape).tocsr()
+    same = (abs(B) + abs(B).T != 0).astype(np.int8)
+    mine = (abs(A) + abs(A).T != 0).astype(np.int8)
+    return shape if (same != mine).nnz == 0 else None
+
+
+#: the "plain version" the issue describes: median split of the Fiedler vector, vertex cover of the
+#: cut, no refinement, no coarsening, minimum-degree leaves (no subtree choice, no multisection)
+PLAIN = dict(multilevel=False, refine=False, split="median", hybrid_max=0, multisection=False, trials=1,
+             top_trials=1, leaf_order="mindegree", eigenvectors=1, top_eigenvectors=1)
+
+
+def run_references(cases):
+    """Calibration rows: the plain spectral nested dissection, our minimum degree and (on the
+    structured grids) textbook geometric nested dissection, as ratios to SciPy's minimum degree."""
+    out = []
+    print(f"\n{'matrix':28s} {'reference':12s} {'nnzL/md':>8s} {'ops/md':>8s}")
+    for name, kind, load in cases:
+        if name.startswith("gen_"):
+            continue
+        A = sp.csr_matrix(load())
+        G = from_matrix(A)
+        pm, _ = scipy_md(m_matrix(A))
+        s0 = symbolic_factor(G, pm)
+        perms = [("nd-plain", order(G, "nd", **PLAIN).perm), ("mindegree", order(G, "mindegree").perm)]
+        shape = _grid_of(name, A)
+        if shape is not None:
+            perms.append(("geometric", geometric_nd(shape)))
+        for label, p in perms:
+            s = symbolic_factor(G, p)
+            r = {"matrix": name, "kind": kind, "n": G.n, "reference": label,
+                 "nnz_ratio": s.nnz_factor / s0.nnz_factor, "ops_ratio": s.factor_ops / s0.factor_ops}
+            out.append(r)
+            print(f"{name:28s} {label:12s} {r['nnz_ratio']:8.3f} {r['ops_ratio']:8.3f}", flush=True)
+    for label in ("nd-plain", "mindegree", "geometric"):
+        sel = [r for r in out if r["reference"] == label]
+        if sel:
+            print(f"  {label:12s} gmean nnz {gmean([r['nnz_ratio'] for r in sel]):.3f}  "
+                  f"ops {gmean([r['ops_ratio'] for r in sel]):.3f}  ({len(sel)} matrices)")
+    return out
 
 
 def run_auto_suite():
@@ -173,7 +259,7 @@ def run_factor_sweep(sizes, efforts, repeat):
 
     out = []
     print(f"\n{'3-D grid':>10s} {'n':>8s} {'effort':>7s} {'t_order':>8s} {'t_factor':>8s} {'t_splu_md':>9s} "
-          f"{'ratio':>6s} {'nnzL/md':>8s} {'ops/md':>7s}")
+          f"{'ratio':>6s} {'nnzL/md':>8s} {'ops/md':>7s} {'budget':>7s}")
     for k in sizes:
         A = pyamg.gallery.poisson((k, k, k)).tocsr()
         G = from_matrix(A)
@@ -188,10 +274,12 @@ def run_factor_sweep(sizes, efforts, repeat):
             s = symbolic_factor(G, o.perm)
             r = {"k": k, "n": G.n, "effort": e, "order_seconds": t_ord, "factor_seconds": t_fac,
                  "splu_md_seconds": t_md, "ratio": (t_ord + t_fac) / t_md,
-                 "nnz_ratio": s.nnz_factor / s0.nnz_factor, "ops_ratio": s.factor_ops / s0.factor_ops}
+                 "nnz_ratio": s.nnz_factor / s0.nnz_factor, "ops_ratio": s.factor_ops / s0.factor_ops,
+                 # what the ordering may cost for the ratio to reach 0.5 with this factor time
+                 "order_budget_seconds": 0.5 * t_md - t_fac}
             out.append(r)
             print(f"{k:>4d}^3     {G.n:8d} {e:>7s} {t_ord:8.2f} {t_fac:8.2f} {t_md:9.2f} {r['ratio']:6.2f} "
-                  f"{r['nnz_ratio']:8.3f} {r['ops_ratio']:7.3f}", flush=True)
+                  f"{r['nnz_ratio']:8.3f} {r['ops_ratio']:7.3f} {r['order_budget_seconds']:7.3f}", flush=True)
     return out
 
 
@@ -260,6 +348,8 @@ def main():
     ap.add_argument("--no-generated", action="store_true")
     ap.add_argument("--variants", action="store_true")
     ap.add_argument("--no-auto", action="store_true")
+    ap.add_argument("--references", action="store_true",
+                    help="also the calibration rows: plain spectral nd, our mindegree, geometric nd on grids")
     ap.add_argument("--factor", action="store_true")
     ap.add_argument("--auto-suite", action="store_true", help="also run auto on every bundled matrix")
     ap.add_argument("--efforts", default="normal", help="nd efforts for the suite rows, comma-separated")
@@ -297,6 +387,7 @@ def main():
     for k, v in summary.items():
         print(f"  {k:14s} " + "  ".join(f"{a}={b:.3f}" if isinstance(b, float) else f"{a}={b}" for a, b in v.items()))
     auto_rows = run_auto_suite() if args.auto_suite else []
+    refs = run_references(suite_cases(args.min_n)) if args.references else []
     sweep_sizes = [int(x) for x in args.factor_sweep.split(",") if x]
     sweep = run_factor_sweep(sweep_sizes, [e for e in args.sweep_efforts.split(",") if e], args.repeat) \
         if sweep_sizes else []
@@ -304,12 +395,13 @@ def main():
     scaling = run_scaling(sizes, [e for e in args.scaling_efforts.split(",") if e]) if sizes else []
     cli = run_cli(args.cli_grid) if args.cli_grid else {}
     result = {"rows": rows, "summary": summary, "scaling": scaling, "auto_suite": auto_rows,
-              "factor_sweep": sweep, "cli": cli}
+              "factor_sweep": sweep, "cli": cli, "references": refs}
     out = Path(args.out)
     if args.merge and out.exists():  # keep the sections this run skipped
         old = json.loads(out.read_text())
         skipped = {"rows": not cases, "summary": not cases, "scaling": not sizes, "auto_suite": not args.auto_suite,
-                   "factor_sweep": not sweep_sizes, "cli": not args.cli_grid}
+                   "factor_sweep": not sweep_sizes, "cli": not args.cli_grid,
+                   "references": not args.references}
         result.update({k: old[k] for k, skip in skipped.items() if skip and k in old})
     out.parent.mkdir(parents=True, exist_ok=True)
     out.write_text(json.dumps(result, indent=1))
