@@ -13,6 +13,7 @@ import numpy as np
 import pytest
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components, reverse_cuthill_mckee
+from scipy.sparse.linalg import splu
 
 from reorder.analysis import symbolic_factor
 from reorder.graph import from_edges, from_matrix
@@ -178,6 +179,33 @@ def test_subtree_choice_never_worse_and_tree_valid():
     assert symbolic_factor(G, hyb.perm).nnz_factor <= symbolic_factor(G, pure.perm).nnz_factor
     assert validate_tree(hyb.info["separator_tree"], hyb.perm, G)
     assert hyb.info["subtrees_tried"] > 0
+
+
+def test_subtree_choice_climbs_where_minimum_degree_wins():
+    # 9-point grid (cells joined when both coordinates differ by at most 1): minimum degree wins
+    # subtrees there, so the choice climbs above hybrid_max; it takes an order only at a lower
+    # exact count, so the climbing run can only have less fill, counted here by SciPy's SuperLU
+    # (natural order, no pivoting, on the permuted M-matrix; structural count, see conftest)
+    k = 40
+    B = sp.csr_matrix(sp.diags([1.0, 1.0, 1.0], [-1, 0, 1], shape=(k, k)))
+    A = sp.kron(B, B).tocsr()
+    G = from_matrix(A)
+    M = m_matrix(A)
+
+    def superlu_nnz(perm):
+        lu = splu(sp.csc_matrix(M[perm][:, perm]), permc_spec="NATURAL", diag_pivot_thresh=0,
+                  options={"SymmetricMode": True})
+        L = sp.csr_matrix(lu.L)
+        L.eliminate_zeros()
+        return L.nnz
+
+    flat = order(G, "nd", effort="fast", leaf_size=20, hybrid_max=60, hybrid_climb=0)
+    climb = order(G, "nd", effort="fast", leaf_size=20, hybrid_max=60)  # default climb 100 000
+    assert climb.info["subtrees_tried"] > flat.info["subtrees_tried"]
+    assert climb.info["subtrees_to_mindegree"] > flat.info["subtrees_to_mindegree"]
+    assert superlu_nnz(climb.perm) <= superlu_nnz(flat.perm)
+    assert superlu_nnz(climb.perm) == symbolic_factor(G, climb.perm).nnz_factor
+    assert validate_tree(climb.info["separator_tree"], climb.perm, G)
 
 
 def test_multisection_nodes_separate_and_never_worse():

@@ -185,7 +185,7 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
                       ratio_key: bool = True, top_trials: int | None = None, top_fraction: float = 0.1,
                       keep: int | None = None, smooth: int | None = None, hybrid_max: int | None = None,
                       hybrid_scores=None, hybrid_key: str = "nnz", hybrid_wide: int | None = None,
-                      hybrid_wide_scores=("degree", "fill"),
+                      hybrid_wide_scores=("degree", "fill"), hybrid_climb: int | None = None,
                       multisection: bool | None = None, restarts: int | None = None, restart_key: str = "nnz",
                       effort: str = "normal", **options):
     """Nested dissection ordering with multilevel spectral vertex separators.
@@ -266,6 +266,15 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         62 500-vertex grid 16 s with all rules, 12 s so).
     hybrid_key : {"nnz", "ops"}
         Cost of a subtree's columns: Σ c_j or Σ c_j².
+    hybrid_climb : int, optional
+        Subtrees of more than ``hybrid_max`` but at most ``hybrid_climb`` vertices still compete
+        when minimum degree won one of their separator-node children (the choice climbs while
+        minimum degree keeps winning, which it does on 2-D meshes and not on 3-D ones). Default
+        100 000, and 0 above 300 000 vertices (time: on the 10⁶ grid climbing doubled the ordering
+        time, 11 s to 22 s, for 3% less fill). Measured with ``effort="fast"``: 9-point 300² grid
+        nnz(L) / operations 1.029× / 0.985× SciPy's minimum degree → 0.978× / 0.896× for 1.6 s
+        → 2.4 s; 9-point 500² 1.040× / 0.959× → 0.958× / 0.825× for 4.1 s → 7.3 s; 5-point 300²
+        0.875× / 0.730× → 0.846× / 0.697×; on 3-D grids it costs nothing and changes nothing.
     multisection : bool, optional
         In the subtree choice, also try for each separator node the multisection order of its
         subtree (leaves first, then all its separators together by minimum degree of the graph
@@ -331,6 +340,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
         restarts = 3 if effort == "best" else 1
     if top_eigenvectors is None:
         top_eigenvectors = eigenvectors if big else max(int(eigenvectors), 3)
+    if hybrid_climb is None:
+        hybrid_climb = 0 if huge else 100_000
     if multisection is None:
         multisection = effort == "best" or (effort == "normal" and graph.n <= 30_000)
     best = None
@@ -345,7 +356,8 @@ def nested_dissection(graph: Graph, *, seed: int = 0, leaf_size: int | None = No
                 ratio_key=ratio_key, top_trials=top_trials, top_fraction=top_fraction,
                 keep=(int(keep), top_keep), smooth=(int(smooth), top_smooth),
                 hybrid_max=hybrid_max, hybrid_scores=hybrid_scores, hybrid_key=hybrid_key,
-                hybrid_wide=hybrid_wide, hybrid_wide_scores=hybrid_wide_scores, multisection=multisection)
+                hybrid_wide=hybrid_wide, hybrid_wide_scores=hybrid_wide_scores, multisection=multisection,
+                hybrid_climb=int(hybrid_climb))
             if restarts <= 1:
                 return perm, info
             sym = symbolic_factor(graph, perm)
@@ -385,7 +397,8 @@ def _single_thread_blas():
 def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, split, leaf_order, coarse_size,
                        eigenvectors, spectral_min, trials, trials_min, ratio_key, top_trials,
                        top_fraction, keep=(1, 1), smooth=(0, 0), hybrid_max=0, hybrid_scores=("degree",),
-                       hybrid_key="nnz", hybrid_wide=None, hybrid_wide_scores=("degree",), multisection=True):
+                       hybrid_key="nnz", hybrid_wide=None, hybrid_wide_scores=("degree",), multisection=True,
+                       hybrid_climb=0):
     n = graph.n
     leaf_size = max(int(leaf_size), 2)
     perm = np.full(n, -1, dtype=np.int64)
@@ -468,7 +481,8 @@ def _nested_dissection(graph, *, seed, leaf_size, balance, multilevel, refine, s
     if hybrid_max and hybrid_max > 0:
         nodes, hstats = _subtree_choice(graph, perm, nodes, hybrid_max=int(hybrid_max), scores=tuple(hybrid_scores),
                                         wide=hybrid_wide, wide_scores=tuple(hybrid_wide_scores),
-                                        key=hybrid_key, seed=seed, multisection=bool(multisection))
+                                        key=hybrid_key, seed=seed, multisection=bool(multisection),
+                                        climb=hybrid_climb)
     tree = {"format": "reorder-separator-tree", "version": 1, "n": int(n), "root": 0,
             "leaf_size": leaf_size, "balance": float(balance), "nodes": nodes}
     info = {"separator_tree": tree, "top_separator": int(top), "separator_vertices": n_sep_vertices,
@@ -509,11 +523,12 @@ def _multisector_graph(g: Graph, leaf_loc: np.ndarray, sep_loc: np.ndarray, halo
 
 def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_max: int, scores, key: str,
                     seed: int, wide: int | None = None, wide_scores=("degree",),
-                    multisection: bool = True) -> tuple[list[dict], dict]:
+                    multisection: bool = True, climb: int = 0) -> tuple[list[dict], dict]:
     """Bottom-up choice between the nested-dissection order of each small subtree, minimum degree,
     and multisection.
 
-    For every node of at most ``hybrid_max`` vertices (children before parents), the vertices of its
+    For every node of at most ``hybrid_max`` vertices (children before parents; up to ``climb``
+    vertices where minimum degree won one of the node's separator-node children), the vertices of its
     range and their halo (neighbours outside the range, all in later separators) form a small graph;
     the current order of the range (nested dissection below it, already improved) competes with
     (a) the halo minimum degree of the whole range and (b) with ``multisection``, for separator
@@ -561,6 +576,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
     # degree has one, a multisected node the compacted ranges of its leaves
     leaves: list[list[tuple[int, int]] | None] = [None] * len(nodes)
     ms_node = np.zeros(len(nodes), dtype=bool)
+    md_won = np.zeros(len(nodes), dtype=bool)  # separator nodes replaced by minimum degree
     for nid in range(len(nodes) - 1, -1, -1):
         nd = nodes[nid]
         s, t = nd["start"], nd["stop"]
@@ -569,7 +585,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
         cost_c[nid] = pre_c[t] - pre_c[own] + sum(cost_c[c] for c in nd["children"])
         cost_z[nid] = pre_z[t] - pre_z[own] + sum(cost_z[c] for c in nd["children"])
         leaves[nid] = [(s, t)] if nd["kind"] == "leaf" else [r for c in nd["children"] for r in leaves[c]]
-        if m > hybrid_max or m < 3:
+        if m < 3 or (m > hybrid_max and not (m <= climb and any(md_won[c] for c in nd["children"]))):
             continue
         if nd["kind"] == "leaf" and len(scores) <= 1:
             continue  # the global leaf pass already used this rule
@@ -626,6 +642,7 @@ def _subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid
         changed = True
         if best_kind == "mindegree":
             stats["subtrees_to_mindegree"] += 1
+            md_won[nid] = True
             leaves[nid] = [(s, t)]
             nd.update(kind="leaf", separator=0, sizes=[])
         else:
