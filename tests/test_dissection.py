@@ -208,6 +208,19 @@ def test_subtree_choice_climbs_where_minimum_degree_wins():
     assert validate_tree(climb.info["separator_tree"], climb.perm, G)
 
 
+def test_subtree_choice_gate_only_skips_rules():
+    # the gate stops trying pivot rules where the first is far from winning; trying every rule can
+    # only lower each node's exact cost (the choices add up, see _subtree_choice), so the ungated
+    # run has at most the fill of the gated one, and both trees describe their permutations
+    G = from_matrix(grid3d(12))
+    gated = order(G, "nd", leaf_size=20, hybrid_gate=0.0)
+    full = order(G, "nd", leaf_size=20, hybrid_gate=None)
+    assert symbolic_factor(G, full.perm).nnz_factor <= symbolic_factor(G, gated.perm).nnz_factor
+    for o in (gated, full):
+        assert validate_tree(o.info["separator_tree"], o.perm, G)
+        assert np.array_equal(np.sort(o.perm), np.arange(G.n))
+
+
 def test_multisection_nodes_separate_and_never_worse():
     # Ashcraft & Liu (1998): after the leaves, the separators of a subtree together (the
     # multisector) may be ordered by minimum degree. Such a node's multisector must disconnect its
