@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import scipy.sparse as sp
+from scipy.sparse.linalg import splu
 
 
 def grid2d(k: int, m: int | None = None) -> sp.csr_matrix:
@@ -31,6 +32,17 @@ def m_matrix(pattern) -> sp.csr_matrix:
     P.data[:] = -1.0
     deg = -np.asarray(P.sum(axis=1)).ravel()
     return sp.csr_matrix(P + sp.diags(deg + 1.0))
+
+
+def superlu_nnz_l(B: sp.spmatrix) -> int:
+    """nnz(L) incl. diagonal from SciPy SuperLU in natural order without pivoting (reference;
+    NOTES.md item 4: explicit zeros removed before counting)."""
+    lu = splu(sp.csc_matrix(B), permc_spec="NATURAL", diag_pivot_thresh=0.0,
+              options={"SymmetricMode": True})
+    L = lu.L.tocsc()
+    L.eliminate_zeros()
+    assert np.array_equal(lu.perm_r, np.arange(B.shape[0]))  # no pivoting happened
+    return L.nnz
 
 
 def random_pattern(n: int, density: float, seed: int) -> sp.csr_matrix:

@@ -6,12 +6,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import scipy.sparse as sp
-from scipy.sparse.linalg import splu
 
 from reorder.analysis import analyse, bandwidth_profile, symbolic_factor
 from reorder.graph import from_matrix
 
-from conftest import grid2d, grid3d, m_matrix, random_pattern
+from conftest import grid2d, grid3d, m_matrix, random_pattern, superlu_nnz_l
 
 
 def dense_cholesky_counts(A: sp.spmatrix) -> np.ndarray:
@@ -35,17 +34,6 @@ def test_counts_match_numpy_dense_cholesky(seed):
     s = analyse(A, perm)
     assert s.nnz_factor == ref.sum()
     assert s.factor_ops == int((ref.astype(np.int64) ** 2).sum())
-
-
-def superlu_nnz_l(B: sp.spmatrix) -> int:
-    """nnz(L) incl. diagonal from SciPy SuperLU in natural order without pivoting (reference;
-    NOTES.md item 4: explicit zeros removed before counting)."""
-    lu = splu(sp.csc_matrix(B), permc_spec="NATURAL", diag_pivot_thresh=0.0,
-              options={"SymmetricMode": True})
-    L = lu.L.tocsc()
-    L.eliminate_zeros()
-    assert np.array_equal(lu.perm_r, np.arange(B.shape[0]))  # no pivoting happened
-    return L.nnz
 
 
 @pytest.mark.parametrize("maker", [lambda: grid2d(35), lambda: grid3d(11), lambda: grid2d(20, 60)])
