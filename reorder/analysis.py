@@ -22,18 +22,11 @@ import numpy as np
 import scipy.sparse as sp
 
 from .graph import Graph, from_matrix
-from .io import check_permutation
+from .permutation import check_permutation
+from .permutation import inverse_permutation as inverse
 from .kernels import symbolic as _k
 
 __all__ = ["Stats", "Symbolic", "symbolic_factor", "factor_column_counts", "analyse", "bandwidth_profile", "inverse"]
-
-
-def inverse(perm: np.ndarray) -> np.ndarray:
-    """Inverse permutation: ``inv[perm[k]] = k``."""
-    perm = np.asarray(perm, dtype=np.int64)
-    inv = np.empty_like(perm)
-    inv[perm] = np.arange(perm.size, dtype=np.int64)
-    return inv
 
 
 @dataclass(frozen=True, eq=False)

@@ -21,6 +21,7 @@ import scipy.io
 import scipy.sparse as sp
 
 from .errors import InputError
+from .permutation import check_permutation
 
 __all__ = [
     "read_matrix",
@@ -330,42 +331,6 @@ def write_matrix(path, matrix, *, comment: str = "") -> None:
 # --------------------------------------------------------------------------------------------------
 # permutations
 # --------------------------------------------------------------------------------------------------
-def check_permutation(perm, n: int | None = None, *, source: str | None = None) -> np.ndarray:
-    """Return ``perm`` as a 0-based int64 array after checking that it permutes ``0..n-1``.
-
-    Raises
-    ------
-    InputError
-        With a message that names the first problem found (length, range, repeated index).
-    """
-    arr = np.asarray(perm)
-    if arr.ndim != 1:
-        raise InputError(f"permutation must be one-dimensional, got shape {arr.shape}", source)
-    if arr.dtype.kind == "f":
-        if not np.all(np.isfinite(arr)) or np.any(arr != np.round(arr)):
-            raise InputError("permutation holds non-integer values", source)
-        arr = arr.astype(np.int64)
-    elif arr.dtype.kind not in "iu":
-        if arr.size == 0:
-            arr = arr.astype(np.int64)
-        else:
-            raise InputError(f"permutation must hold integers, not {arr.dtype}", source)
-    arr = arr.astype(np.int64, copy=False)
-    m = arr.size if n is None else n
-    if n is not None and arr.size != n:
-        raise InputError(f"permutation has {arr.size} entries but the matrix has {n} rows", source)
-    if arr.size:
-        lo, hi = int(arr.min()), int(arr.max())
-        if lo < 0 or hi >= m:
-            bad = lo if lo < 0 else hi
-            raise InputError(f"index {bad} out of range 0..{m - 1}", source)
-        counts = np.bincount(arr, minlength=m)
-        if np.any(counts != 1):
-            dup = int(np.flatnonzero(counts > 1)[0])
-            raise InputError(f"index {dup} appears {counts[dup]} times (not a permutation)", source)
-    return arr
-
-
 def _is_int(text: str) -> bool:
     try:
         int(text)

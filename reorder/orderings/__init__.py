@@ -25,7 +25,7 @@ from typing import Callable
 import numpy as np
 
 from ..graph import Graph, component_lists, subgraph
-from ..io import check_permutation
+from ..permutation import check_permutation
 
 __all__ = ["Ordering", "register", "order", "available", "describe", "get"]
 
