@@ -1,0 +1,231 @@
+"""Commands that order one matrix and measure it: ``order`` and ``stats``."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Optional
+
+import typer
+
+from .. import __version__
+from ..errors import InputError
+from ._app import (EFFORT_HELP, MULTISECTION_HELP, _check_method, _default_method, _effort_option, _fmt, _graph,
+                   _jsonable, _load, _same_file, _write_json, app)
+
+
+# ------------------------------------------------------------------------------------------------
+@app.command("order")
+def order_cmd(
+    matrix: Path = typer.Argument(..., help="Matrix file: .mtx, .mtx.gz, Harwell-Boeing (.rb/.rua/.rsa) or .npz."),
+    output: Path = typer.Option(..., "--output", "-o", help="Permutation file to write (.txt or .npy)."),
+    method: Optional[str] = typer.Option(None, "--method", "-m", help="Ordering name (see `reorder methods`); default auto when available."),
+    base: int = typer.Option(0, "--base", help="Index base of the written file: 0 or 1."),
+    seed: int = typer.Option(0, "--seed", help="Seed for randomised steps; same seed, same permutation."),
+    inverse: bool = typer.Option(False, "--inverse", help="Write the inverse permutation (new position of each old index) instead."),
+    operator: Optional[str] = typer.Option(None, "--operator", help="Spectral operator: laplacian or normalized."),
+    weights: str = typer.Option("pattern", "--weights", help="Edge weights for spectral steps: pattern (all ones) or values (|a_ij|)."),
+    parts: Optional[int] = typer.Option(None, "--parts", help="Number of parts for rsb (a power of two is natural)."),
+    labels: Optional[Path] = typer.Option(None, "--labels", help="Write the part label of each row (rsb) to this file."),
+    tree: Optional[Path] = typer.Option(None, "--tree", help="Write the separator tree (nd) as JSON to this file."),
+    effort: Optional[str] = typer.Option(None, "--effort", help=EFFORT_HELP),
+    multisection: Optional[bool] = typer.Option(None, "--multisection/--no-multisection", help=MULTISECTION_HELP),
+    drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros (default: they are structural)."),
+    info_json: bool = typer.Option(False, "--json", help="Print what the ordering reports as one JSON object."),
+):
+    """Compute an ordering of MATRIX and write it as a permutation file.
+
+    Line k of the file (after '#' comments) is the old index placed at position k, so the reordered
+    matrix is A[p][:, p]. An ordering changes only speed and memory, never the solution of an SPD
+    system; a pivoting solver may reorder further.
+    """
+    from ..analysis import symbolic_factor
+    from ..io import read_permutation, write_permutation
+    from ..orderings import order
+
+    if base not in (0, 1):
+        raise InputError(f"--base must be 0 or 1, not {base}")
+    if weights not in ("pattern", "values"):
+        raise InputError(f"--weights must be 'pattern' or 'values', not '{weights}'")
+    if operator is not None and operator not in ("laplacian", "normalized"):
+        raise InputError(f"--operator must be 'laplacian' or 'normalized', not '{operator}'")
+    if parts is not None and parts < 1:
+        raise InputError(f"--parts must be at least 1, not {parts}")
+    for out in (output, labels, tree):
+        if out is not None and _same_file(matrix, out):
+            raise InputError("refusing to overwrite the input matrix", str(out))
+        if out is not None and not (out.parent if str(out.parent) else Path(".")).is_dir():
+            raise InputError("output folder does not exist", str(out.parent))
+    name = _check_method(method or _default_method())
+    A = _load(matrix, drop_zeros)
+    g = _graph(A, weights)
+    opts = {}
+    if operator is not None:
+        opts["operator"] = operator
+    if weights != "pattern":
+        opts["weights"] = weights
+    if parts is not None:
+        opts["parts"] = parts
+    opts.update(_effort_option(effort, name))
+    if multisection is not None:
+        if name not in ("nd", "nd-fast", "auto"):
+            raise InputError(f"--multisection/--no-multisection apply to nd, nd-fast and auto, not '{name}'")
+        opts["multisection"] = multisection
+    result = order(g, name, seed=seed, **opts)
+    perm = result.iperm if inverse else result.perm
+    header = [
+        f"reorder {__version__}: {'inverse ' if inverse else ''}permutation, method={name} seed={seed} base={base} n={g.n}",
+        f"matrix: {matrix.name}",
+        "line k holds the old index at new position k (reordered matrix = A[p][:, p])"
+        if not inverse
+        else "line i holds the new position of old index i",
+    ]
+    write_permutation(output, perm, base=base, header=header)
+    back = read_permutation(output, g.n, base=base)  # verify what was written
+    if not (back == perm).all():  # pragma: no cover - would be a bug
+        raise RuntimeError("permutation file verification failed")
+    if labels is not None:
+        lab = result.info.get("labels")
+        if lab is None:
+            raise InputError(f"method '{name}' produces no part labels (use --method rsb)")
+        from ..io import atomic_path
+
+        with atomic_path(labels) as tmp:
+            tmp.write_text(
+                f"# part label of each row (0-based rows), method={name} seed={seed}\n"
+                + "\n".join(map(str, list(map(int, lab))))
+                + "\n",
+                encoding="utf-8",
+            )
+    if tree is not None:
+        t = result.info.get("separator_tree")
+        if t is None:
+            raise InputError(f"method '{name}' produces no separator tree (use --method nd)")
+        _write_json(tree, _jsonable(t))
+    sym = symbolic_factor(g, result.perm)
+    summary = {
+        "matrix": str(matrix),
+        "method": name,
+        "seed": seed,
+        "n": g.n,
+        "nnz_factor": sym.nnz_factor,
+        "factor_ops": sym.factor_ops,
+        "order_seconds": round(result.seconds, 4),
+        "output": str(output),
+        "base": base,
+        "inverse": inverse,
+        "info": _jsonable({k: v for k, v in result.info.items() if k not in ("labels", "separator_tree")}),
+    }
+    if info_json:
+        typer.echo(json.dumps(summary))
+    else:
+        typer.echo(
+            f"{matrix.name}: {name} ordering of n={g.n} in {result.seconds:.3f} s, "
+            f"nnz(L)={sym.nnz_factor}, ops={sym.factor_ops:.4g} -> {output}"
+        )
+
+
+
+# ------------------------------------------------------------------------------------------------
+STAT_LABELS = [
+    ("n", "rows"),
+    ("nnz", "stored entries"),
+    ("bandwidth", "bandwidth"),
+    ("profile", "profile (envelope)"),
+    ("nnz_factor", "nnz(L), diagonal included"),
+    ("fill", "fill entries"),
+    ("factor_ops", "factor operations (sum c_j^2)"),
+    ("etree_height", "elimination-tree height"),
+    ("components", "connected components"),
+    ("pattern_symmetric", "pattern symmetric"),
+]
+
+
+@app.command("stats")
+def stats_cmd(
+    matrix: Path = typer.Argument(..., help="Matrix file."),
+    perm: Optional[Path] = typer.Option(None, "--perm", "-p", help="Permutation file (0- or 1-based, detected; .npy too)."),
+    method: Optional[str] = typer.Option(None, "--method", "-m", help="Compute this ordering on the fly instead of reading --perm."),
+    base: Optional[int] = typer.Option(None, "--base", help="Force the base of --perm (default: detect)."),
+    inverse: bool = typer.Option(False, "--inverse", help="The --perm file holds the inverse permutation."),
+    seed: int = typer.Option(0, "--seed", help="Seed for --method."),
+    effort: Optional[str] = typer.Option(None, "--effort", help=EFFORT_HELP),
+    tree: Optional[Path] = typer.Option(None, "--tree", help="Separator-tree JSON (from `order --tree`) to summarise."),
+    drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
+):
+    """Measure MATRIX in its natural order or under a permutation: bandwidth, profile, exact nnz(L),
+    factor operations and elimination-tree height (symbolic Cholesky of A[p][:, p])."""
+    import time
+
+    from ..analysis import analyse
+    from ..io import read_permutation
+
+    if perm is not None and method is not None:
+        raise InputError("give --perm or --method, not both")
+    if effort is not None and method is None:
+        raise InputError("--effort needs --method")
+    if base is not None and base not in (0, 1):
+        raise InputError(f"--base must be 0 or 1, not {base}")
+    A = _load(matrix, drop_zeros)
+    g = _graph(A)
+    p = None
+    ordering = "natural"
+    order_seconds = None
+    tree_obj = None
+    if perm is not None:
+        p = read_permutation(perm, g.n, base=base)
+        if inverse:
+            q = p.copy()
+            p = q.argsort(kind="stable")
+        ordering = str(perm)
+    elif method is not None:
+        from ..orderings import order
+
+        name = _check_method(method)
+        res = order(g, name, seed=seed, **_effort_option(effort, name))
+        p, ordering, order_seconds = res.perm, name, res.seconds
+        tree_obj = res.info.get("separator_tree")
+    if tree is not None:
+        if not tree.exists():
+            raise InputError("no such file", str(tree))
+        try:
+            tree_obj = json.loads(tree.read_text(encoding="utf-8"))
+        except (OSError, ValueError) as exc:
+            raise InputError(f"not a separator-tree JSON file ({exc.__class__.__name__})", str(tree)) from None
+    t0 = time.perf_counter()
+    s = analyse(A, p, graph=g)
+    d = s.to_dict()
+    d["analyse_seconds"] = round(time.perf_counter() - t0, 4)
+    d = {"matrix": str(matrix), "ordering": ordering, **d}
+    if order_seconds is not None:
+        d["order_seconds"] = round(order_seconds, 4)
+    levels = None
+    if tree_obj is not None:
+        try:
+            from ..orderings.dissection import tree_summary
+
+            levels = _jsonable(tree_summary(tree_obj))
+        except Exception as exc:  # malformed tree
+            raise InputError(f"cannot summarise separator tree ({exc.__class__.__name__}: {exc})") from None
+        d["separator_levels"] = levels
+    if as_json:
+        typer.echo(json.dumps(_jsonable(d)))
+        return
+    typer.echo(f"{matrix.name}  ordering: {ordering}")
+    width = max(len(lbl) for _, lbl in STAT_LABELS)
+    for key, lbl in STAT_LABELS:
+        val = d[key]
+        txt = f"{val:,}" if isinstance(val, int) and not isinstance(val, bool) else str(val).lower()
+        typer.echo(f"  {lbl:<{width}}  {txt:>18}")
+    typer.echo(f"  {'analysis time':<{width}}  {d['analyse_seconds']:>16.3f} s")
+    if order_seconds is not None:
+        typer.echo(f"  {'ordering time':<{width}}  {order_seconds:>16.3f} s")
+    if levels:
+        typer.echo("  separator tree, top levels:")
+        for lev in levels:
+            typer.echo("    " + ", ".join(f"{k}={_fmt(v)}" for k, v in lev.items()))
+    if not s.pattern_symmetric:
+        typer.echo("  note: the pattern of A is not symmetric; measures use the pattern of A + A^T")
+
+
