@@ -141,7 +141,7 @@ def test_mixed_bases_rejected(tmp_path):
 
 def test_interrupted_write_leaves_nothing(tmp_path, monkeypatch):
     target = tmp_path / "p.txt"
-    import reorder.io as rio
+    import reorder.io.permfile as rio
 
     real_save = np.save
 

@@ -1,0 +1,27 @@
+"""Intake and output: sparse matrices and permutation files.
+
+This module is the one validation gate for user files. Readers return SciPy CSR matrices (square,
+duplicates summed, explicit zeros kept unless asked otherwise) or 0-based permutation arrays, and raise
+:class:`~reorder.errors.InputError` with a one-line message for anything malformed. Writers are atomic:
+they write a temporary file beside the target and rename it.
+"""
+
+from ..permutation import check_permutation
+from .paths import atomic_path
+from .permfile import read_permutation, write_permutation
+from .readers import MAX_DIMENSION, MAX_ENTRIES, available_memory, estimate_bytes, matrix_name, read_matrix
+from .writers import write_matrix
+
+__all__ = [
+    "read_matrix",
+    "write_matrix",
+    "read_permutation",
+    "write_permutation",
+    "atomic_path",
+    "check_permutation",
+    "MAX_DIMENSION",
+    "MAX_ENTRIES",
+    "available_memory",
+    "estimate_bytes",
+    "matrix_name",
+]
