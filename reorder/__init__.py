@@ -10,31 +10,48 @@ The public API::
 
 An ordering changes only the speed and memory of a factorization, never the solution of an SPD
 system; solvers that pivot for stability may reorder further.
+
+The names below are imported on first use (PEP 562 module ``__getattr__``), so that the command
+line can list methods and print help without loading SciPy or the compiled kernels.
 """
 
-from .analysis import Stats, analyse, bandwidth_profile, symbolic_factor
-from .errors import InputError
-from .graph import Graph, components, from_matrix, subgraph
-from .io import read_matrix, read_permutation, write_matrix, write_permutation
-from .orderings import Ordering, available, order
+from __future__ import annotations
+
+import importlib
 
 __version__ = "0.1.0"
 
-__all__ = [
-    "Graph",
-    "InputError",
-    "Ordering",
-    "Stats",
-    "analyse",
-    "available",
-    "bandwidth_profile",
-    "components",
-    "from_matrix",
-    "order",
-    "read_matrix",
-    "read_permutation",
-    "subgraph",
-    "symbolic_factor",
-    "write_matrix",
-    "write_permutation",
-]
+#: public name -> module that defines it
+_EXPORTS = {
+    "Stats": "analysis",
+    "analyse": "analysis",
+    "bandwidth_profile": "analysis",
+    "symbolic_factor": "analysis",
+    "InputError": "errors",
+    "Graph": "graph",
+    "components": "graph",
+    "from_matrix": "graph",
+    "subgraph": "graph",
+    "read_matrix": "io",
+    "read_permutation": "io",
+    "write_matrix": "io",
+    "write_permutation": "io",
+    "Ordering": "orderings",
+    "available": "orderings",
+    "order": "orderings",
+}
+
+__all__ = sorted(_EXPORTS)
+
+
+def __getattr__(name: str):
+    module = _EXPORTS.get(name)
+    if module is None:
+        raise AttributeError(f"module 'reorder' has no attribute '{name}'")
+    value = getattr(importlib.import_module(f".{module}", __name__), name)
+    globals()[name] = value  # later look-ups skip this function
+    return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(__all__))

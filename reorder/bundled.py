@@ -12,7 +12,10 @@ import importlib.util
 import json
 from pathlib import Path
 
-__all__ = ["suite_dir", "manifest", "suite_files", "KINDS"]
+__all__ = ["suite_dir", "manifest", "suite_files", "resolve", "PREFIX", "KINDS"]
+
+#: Prefix naming a bundled matrix on the command line: ``bundled:heatplate_bolts_p1_small``.
+PREFIX = "bundled:"
 
 #: Kinds used in the manifest.
 KINDS = ("grid2d", "grid3d", "fem2d", "fem3d", "graph", "powerlaw", "pathological")
@@ -126,3 +129,49 @@ def suite_files(kinds=None, min_n: int = 0, max_n: int | None = None, *, tags=No
             continue
         out.append(base / entry["file"])
     return out
+
+
+def resolve(path):
+    """The file behind ``bundled:NAME`` (a bundled matrix by its name); any other path unchanged.
+
+    ``bundled:`` alone stands for the folder of the whole suite.
+
+    Parameters
+    ----------
+    path : str or path-like
+
+    Returns
+    -------
+    pathlib.Path
+
+    Raises
+    ------
+    InputError
+        ``bundled:NAME`` with a name not in the manifest (the message lists the closest names), or
+        no bundled suite installed.
+
+    Examples
+    --------
+    >>> resolve("bundled:pipe_network_tiny").name
+    'pipe_network_tiny.npz'
+    """
+    from .errors import InputError
+
+    text = str(path)
+    if not text.startswith(PREFIX):
+        return Path(path)
+    name = text[len(PREFIX):]
+    try:
+        base, entries = suite_dir(), manifest()
+    except (FileNotFoundError, OSError, ValueError) as exc:
+        raise InputError(f"cannot open the bundled matrices: {exc}", text) from None
+    if not name:
+        return base
+    for e in entries:
+        if name in (e["name"], e["file"]):
+            return base / e["file"]
+    import difflib
+
+    close = difflib.get_close_matches(name, [e["name"] for e in entries], n=3, cutoff=0.4)
+    hint = f"; did you mean {', '.join(PREFIX + c for c in close)}?" if close else ""
+    raise InputError(f"no bundled matrix named '{name}' (list them with `reorder examples`){hint}", text)

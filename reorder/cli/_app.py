@@ -48,8 +48,10 @@ def _err(msg: str) -> None:
 
 
 def _load(path: Path, drop_zeros: bool = False):
+    from ..bundled import resolve
     from ..io import read_matrix
 
+    path = resolve(path)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         A = read_matrix(path, drop_zeros=drop_zeros)
@@ -94,6 +96,14 @@ def _effort_option(effort: Optional[str], method: str) -> dict:
     if method not in ("nd", "auto"):
         raise InputError(f"--effort applies to nd and auto, not '{method}'")
     return {"effort": effort}
+
+
+def _compiled(method: str) -> None:
+    """Compile the kernels of ``method`` first if the cache is cold (saying so on stderr), so that the
+    ordering time printed afterwards is not compilation time."""
+    from ..warmup import ensure_compiled
+
+    ensure_compiled([method], load=False)
 
 
 def _default_method() -> str:

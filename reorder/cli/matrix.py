@@ -15,10 +15,11 @@ from ._app import _load, _same_file, app
 # ------------------------------------------------------------------------------------------------
 @app.command("apply")
 def apply_cmd(
-    matrix: Path = typer.Argument(..., help="Matrix file."),
-    perm: Path = typer.Argument(..., help="Permutation file (0- or 1-based, detected; .npy too)."),
-    output: Path = typer.Option(..., "--output", "-o", help="Permuted matrix to write (.mtx, .mtx.gz or .npz)."),
-    base: Optional[int] = typer.Option(None, "--base", help="Force the base of PERM (default: detect)."),
+    matrix: Path = typer.Argument(..., metavar="MATRIX", help="Matrix file."),
+    perm: Path = typer.Argument(..., metavar="PERM", help="Permutation file (0- or 1-based, detected; .npy too)."),
+    output: Path = typer.Option(..., "--output", "-o", metavar="FILE",
+                                help="Permuted matrix to write (.mtx, .mtx.gz, .npz or Harwell-Boeing .rsa/.rua)."),
+    base: Optional[int] = typer.Option(None, "--base", metavar="0|1", help="Force the base of PERM.  [default: detect]"),
     inverse: bool = typer.Option(False, "--inverse", help="PERM holds the inverse permutation."),
     drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros."),
 ):

@@ -10,7 +10,7 @@ import typer
 
 from .. import __version__
 from ..errors import InputError
-from ._app import (EFFORT_HELP, MULTISECTION_HELP, _check_method, _default_method, _effort_option, _fmt, _graph,
+from ._app import (EFFORT_HELP, MULTISECTION_HELP, _check_method, _compiled, _default_method, _effort_option, _fmt, _graph,
                    _jsonable, _load, _same_file, _write_json, app)
 
 
@@ -71,6 +71,7 @@ def order_cmd(
         if name not in ("nd", "nd-fast", "auto"):
             raise InputError(f"--multisection/--no-multisection apply to nd, nd-fast and auto, not '{name}'")
         opts["multisection"] = multisection
+    _compiled(name)
     result = order(g, name, seed=seed, **opts)
     perm = result.iperm if inverse else result.perm
     header = [
@@ -183,6 +184,7 @@ def stats_cmd(
         from ..orderings import order
 
         name = _check_method(method)
+        _compiled(name)
         res = order(g, name, seed=seed, **_effort_option(effort, name))
         p, ordering, order_seconds = res.perm, name, res.seconds
         tree_obj = res.info.get("separator_tree")

@@ -21,19 +21,49 @@ def methods_cmd():
         typer.echo(f"{name:<10} {summary}")
 
 
+@app.command("examples")
+def examples_cmd(
+    kind: Optional[str] = typer.Option(None, "--kind", metavar="KIND",
+                                       help="Only this kind: grid2d, grid3d, fem2d, fem3d, graph, powerlaw or pathological."),
+    paths: bool = typer.Option(False, "--paths", help="Print the file path of each matrix instead of its description."),
+):
+    """List the bundled matrices with their size and kind; name one anywhere as bundled:NAME."""
+    from .. import bundled
+
+    if kind is not None and kind not in bundled.KINDS:
+        raise InputError(f"--kind must be one of {', '.join(bundled.KINDS)}, not '{kind}'")
+    try:
+        entries, base = bundled.manifest(), bundled.suite_dir()
+    except (FileNotFoundError, OSError, ValueError) as exc:
+        raise InputError(f"cannot open the bundled matrices: {exc}") from None
+    entries = sorted((e for e in entries if kind in (None, e["kind"])), key=lambda e: (e["kind"], e["n"], e["name"]))
+    width = max((len(e["name"]) for e in entries), default=4) + len(bundled.PREFIX)
+    typer.echo(f"{'name':<{width}}  {'rows':>7}  {'entries':>8}  {'kind':<12}  " + ("path" if paths else "description"))
+    for e in entries:
+        what = str(base / e["file"]) if paths else e["description"].split(". ")[0].split(" (")[0].split(": ")[0]
+        what = what if len(what) <= 70 else what[:67].rsplit(" ", 1)[0] + " ..."
+        typer.echo(f"{bundled.PREFIX + e['name']:<{width}}  {e['n']:>7,}  {e['nnz']:>8,}  {e['kind']:<12}  {what}")
+
+
 # ------------------------------------------------------------------------------------------------
 @app.command("compare")
 def compare_cmd(
-    inputs: List[Path] = typer.Argument(..., help="Matrix files or folders of matrix files."),
-    methods: Optional[str] = typer.Option(None, "--methods", help="Comma-separated ordering names (default: all available)."),
-    out: Path = typer.Option(Path("reorder-compare"), "--out", help="Folder for results, permutations, plots and report."),
-    workers: int = typer.Option(1, "--workers", help="Local worker processes."),
-    resume: bool = typer.Option(False, "--resume", help="Skip cases already finished in OUT."),
+    inputs: List[Path] = typer.Argument(..., metavar="MATRIX...",
+                                        help="Matrix files, folders of matrix files, or bundled:NAME (see `reorder examples`)."),
+    methods: Optional[str] = typer.Option(None, "--methods", metavar="LIST",
+                                          help="Comma-separated ordering names.  [default: all, see `reorder methods`]"),
+    output: Path = typer.Option(Path("reorder-compare"), "--output", "-o", metavar="FOLDER",
+                                help="Folder for results, permutations, plots and report."),
+    out_alias: Optional[Path] = typer.Option(None, "--out", hidden=True),
+    workers: int = typer.Option(1, "--workers", metavar="N", help="Local worker processes."),
+    resume: bool = typer.Option(False, "--resume", help="Skip cases already finished in the output folder."),
     factor: bool = typer.Option(False, "--factor", help="Also run a real factorization (SciPy SuperLU, natural order, no pivoting)."),
-    cluster: Optional[str] = typer.Option(None, "--cluster", help="Dask scheduler address tcp://HOST:PORT (needs the 'cluster' extra)."),
-    seed: int = typer.Option(0, "--seed", help="Seed for every ordering."),
+    cluster: Optional[str] = typer.Option(None, "--cluster", metavar="ADDRESS",
+                                          help="Dask scheduler address tcp://HOST:PORT (needs the 'cluster' extra)."),
+    seed: int = typer.Option(0, "--seed", metavar="N", help="Seed for every ordering."),
     plots: bool = typer.Option(True, "--plots/--no-plots", help="Draw spy plots, relative-fill plots and performance profiles."),
-    factor_max_ops: float = typer.Option(5e10, "--factor-max-ops", help="Skip real factorizations needing more operations than this."),
+    factor_max_ops: float = typer.Option(5e10, "--factor-max-ops", metavar="OPS",
+                                         help="Skip real factorizations needing more operations than this."),
 ):
     """Run every method on every matrix; write results.csv/json, permutations, plots and report.html.
 
@@ -49,22 +79,22 @@ def compare_cmd(
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
     _compare.run_compare(
-        inputs, methods=names, out=out, workers=workers, resume=resume, factor=factor,
+        inputs, methods=names, out=out_alias or output, workers=workers, resume=resume, factor=factor,
         cluster=cluster, seed=seed, progress=True, plots=plots, factor_max_ops=factor_max_ops,
     )
 
 
 @app.command("demo")
 def demo_cmd(
-    out: Path = typer.Option(Path("reorder-demo"), "--out", help="Folder for the demo's results and report."),
-    workers: int = typer.Option(1, "--workers", help="Local worker processes."),
-    resume: bool = typer.Option(False, "--resume", help="Skip cases already finished in OUT."),
+    output: Path = typer.Option(Path("reorder-demo"), "--output", "-o", metavar="FOLDER",
+                                help="Folder for the demo's results and report."),
+    out_alias: Optional[Path] = typer.Option(None, "--out", hidden=True),
+    workers: int = typer.Option(1, "--workers", metavar="N", help="Local worker processes."),
+    resume: bool = typer.Option(False, "--resume", help="Skip cases already finished in the output folder."),
 ):
-    """Compare every ordering on the bundled matrices and write a report."""
+    """Compare the orderings on a fixed set of bundled matrices (about a minute) and write a report."""
     from .. import compare as _compare
 
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
-    _compare.run_demo(out=out, workers=workers, resume=resume)
-
-
+    _compare.run_demo(out=out_alias or output, workers=workers, resume=resume)

@@ -1,4 +1,42 @@
 """Compiled inner loops (numba, ``cache=True``), plain NumPy arrays in and out.
 
 Nothing here validates input: callers in :mod:`reorder.analysis` and :mod:`reorder.orderings` do.
+The modules compile on first use and keep the machine code in numba's on-disk cache;
+:func:`cache_is_cold` tells whether that cache is still empty (the first run after an
+installation), so that :mod:`reorder.warmup` can say so before the compilation starts.
 """
+
+from __future__ import annotations
+
+import importlib
+
+#: The kernel modules, in the order the warm-up loads them.
+MODULES = ("symbolic", "traversal", "envelope", "separators", "mindegree")
+
+
+def dispatchers(modules=MODULES) -> list:
+    """The compiled functions (numba dispatchers) of the given kernel modules (default: all)."""
+    out = []
+    for name in modules:
+        mod = importlib.import_module(f"{__name__}.{name}")
+        for obj in vars(mod).values():
+            if getattr(obj, "__module__", None) == mod.__name__ and hasattr(obj, "_cache") and hasattr(obj, "py_func"):
+                out.append(obj)
+    return out
+
+
+def cache_is_cold(modules=MODULES) -> bool:
+    """True when some kernel of ``modules`` has nothing in numba's on-disk cache (or only code of an
+    older source).
+
+    Reads the cache index of every kernel (a small file each); compiles nothing. A kernel whose
+    cache cannot be inspected counts as warm, so that an unusual numba set-up never makes the
+    command line announce a compilation that does not happen.
+    """
+    for disp in dispatchers(modules):
+        try:
+            if not disp._cache._cache_file._load_index():
+                return True
+        except Exception:  # numba internals differ: do not guess
+            continue
+    return False

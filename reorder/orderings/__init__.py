@@ -18,14 +18,15 @@ Adding an ordering::
 
 from __future__ import annotations
 
+import importlib
 import time
 from dataclasses import dataclass, field
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
-import numpy as np
+if TYPE_CHECKING:  # imported on use: listing the methods must not load SciPy or the kernels
+    import numpy as np
 
-from ..graph import Graph, component_lists, subgraph
-from ..permutation import check_permutation
+    from ..graph import Graph
 
 __all__ = ["Ordering", "register", "order", "available", "describe", "get"]
 
@@ -55,6 +56,8 @@ class Ordering:
     @property
     def iperm(self) -> np.ndarray:
         """Inverse permutation: ``iperm[old] = new``."""
+        import numpy as np
+
         inv = np.empty_like(self.perm)
         inv[self.perm] = np.arange(self.perm.size, dtype=self.perm.dtype)
         return inv
@@ -70,6 +73,22 @@ class _Entry:
 
 
 _REGISTRY: dict[str, _Entry] = {}
+
+#: The built-in orderings: ``name -> (module, rank, summary)``. Listing them (``reorder methods``,
+#: ``--help``, checking a ``--method``) reads this table only, so it does not import the ordering
+#: modules, SciPy or the compiled kernels; the module is imported when the method is first used.
+#: ``tests/test_orderings_basic.py`` checks the table against what the modules register.
+_BUILTIN: dict[str, tuple[str, int, str]] = {
+    "natural": ("basic", 0, "the order of the file (identity permutation)"),
+    "auto": ("auto", 5, "best of nd, minimum degree and RCM by exact nnz(L)"),
+    "rcm": ("basic", 10, "reverse Cuthill-McKee (SciPy), the bandwidth baseline"),
+    "spectral": ("envelope", 20, "Fiedler-vector envelope ordering refined by Sloan's algorithm"),
+    "mindegree": ("mindegree", 30, "minimum degree (approximate external degrees, quotient graph)"),
+    "nd": ("dissection", 40, "nested dissection: multilevel spectral vertex separators, minimum-degree leaves"),
+    "nd-fast": ("dissection", 41,
+                "nested dissection with cheaper settings (nd --effort fast), for a single factorization"),
+    "rsb": ("dissection", 45, "recursive spectral bisection into --parts blocks, ordered block by block"),
+}
 
 
 def register(name: str, *, summary: str = "", split_components: bool = True, rank: int = 100):
@@ -96,39 +115,49 @@ def register(name: str, *, summary: str = "", split_components: bool = True, ran
     return deco
 
 
-def _load_all() -> None:
-    # importing the modules registers their orderings; optional ones may be absent in early builds
-    import importlib
+def _import(module: str) -> None:
+    # importing a module registers its orderings; optional ones may be absent in early builds
+    try:
+        importlib.import_module(f"{__name__}.{module}")
+    except ModuleNotFoundError as exc:
+        if exc.name != f"{__name__}.{module}":
+            raise
 
-    for mod in ("basic", "envelope", "mindegree", "dissection", "auto"):
-        try:
-            importlib.import_module(f"{__name__}.{mod}")
-        except ModuleNotFoundError as exc:
-            if exc.name != f"{__name__}.{mod}":
-                raise
+
+def _load_all() -> None:
+    for mod in dict.fromkeys(m for m, _, _ in _BUILTIN.values()):
+        _import(mod)
+
+
+def _load(name: str) -> None:
+    """Import the module of a built-in ordering that is not registered yet."""
+    if name not in _REGISTRY and name in _BUILTIN:
+        _import(_BUILTIN[name][0])
 
 
 def available() -> list[str]:
-    """Names of the registered orderings, in listing order."""
-    _load_all()
-    return [e.name for e in sorted(_REGISTRY.values(), key=lambda e: (e.order, e.name))]
+    """Names of the orderings (built-in and registered), in listing order; imports nothing."""
+    ranks = {name: rank for name, (_, rank, _) in _BUILTIN.items()}
+    ranks.update({e.name: e.order for e in _REGISTRY.values()})
+    return sorted(ranks, key=lambda name: (ranks[name], name))
 
 
 def describe() -> dict[str, str]:
-    """``{name: one-line summary}`` of the registered orderings."""
-    _load_all()
-    return {name: _REGISTRY[name].summary for name in available()}
+    """``{name: one-line summary}`` of the orderings, in listing order; imports nothing."""
+    return {name: (_REGISTRY[name].summary if name in _REGISTRY else _BUILTIN[name][2]) for name in available()}
 
 
 def get(name: str) -> Callable:
     """The registered function for ``name`` (``KeyError`` with the known names otherwise)."""
-    _load_all()
+    _load(name)
     if name not in _REGISTRY:
         raise KeyError(f"unknown ordering '{name}' (known: {', '.join(available())})")
     return _REGISTRY[name].func
 
 
 def _unpack(result):
+    import numpy as np
+
     if isinstance(result, tuple):
         perm, info = result
     elif isinstance(result, Ordering):
@@ -158,7 +187,12 @@ def order(graph: Graph, method: str = "rcm", *, seed: int = 0, **options) -> Ord
     -------
     Ordering
     """
-    _load_all()
+    import numpy as np
+
+    from ..graph import component_lists, subgraph
+    from ..permutation import check_permutation
+
+    _load(method)
     if method not in _REGISTRY:
         raise KeyError(f"unknown ordering '{method}' (known: {', '.join(available())})")
     entry = _REGISTRY[method]
