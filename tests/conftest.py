@@ -51,6 +51,21 @@ def random_pattern(n: int, density: float, seed: int) -> sp.csr_matrix:
     return sp.csr_matrix(R + R.T)
 
 
+@pytest.fixture(autouse=True, scope="session")
+def _private_cost_cache(tmp_path_factory):
+    """The machine rates of reorder.cost are measured once per session into a private cache folder
+    (never the user's), also for CLI subprocesses, which inherit the environment."""
+    import os
+
+    old = os.environ.get("REORDER_CACHE_DIR")
+    os.environ["REORDER_CACHE_DIR"] = str(tmp_path_factory.mktemp("cost-cache"))
+    yield
+    if old is None:
+        os.environ.pop("REORDER_CACHE_DIR", None)
+    else:
+        os.environ["REORDER_CACHE_DIR"] = old
+
+
 @pytest.fixture
 def tmp_cwd(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)

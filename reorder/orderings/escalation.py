@@ -1,0 +1,203 @@
+"""Cost-aware search over orderings: cheap candidates first, more effort only while it pays.
+
+What a user pays is the ordering time plus ``factorizations`` times the factorization time.
+:func:`escalate` starts from the cheapest good candidate (minimum degree under one pivot rule), prices
+its factorization with :func:`reorder.cost.predict_seconds`, and then walks a ladder of costlier
+candidates. Each rung has a predicted ordering time (a multiple of the measured time of the cheap
+start, which gauges this machine and this graph) and an expected saving (a fraction, measured on the
+bundled meshes and grids, of the best predicted factorization time so far, times the number of
+factorizations). A rung runs only when its expected saving exceeds its predicted cost; the search
+stops at the first rung that does not pay. The order kept is the one of least predicted total
+factorization time (ties: fewer entries of L, then the earlier candidate), so escalating never
+makes the result worse than the cheap start by the model's measure.
+
+The rungs are sorted by the break-even point ``cost / saving``, so that a rung that does not pay
+means the later ones would not either.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..analysis import symbolic_factor
+from ..cost import factor_counts, machine_rates, predict_seconds
+from ..graph import Graph
+
+__all__ = ["Rung", "LADDER", "escalate"]
+
+
+@dataclass(frozen=True)
+class Rung:
+    """One candidate of the ladder.
+
+    Attributes
+    ----------
+    label : str
+        Name recorded in ``info["candidates"]``.
+    method : str
+        Registered method (``"superlu-md"``: SciPy SuperLU's own minimum degree).
+    options : tuple of (str, value)
+        Settings passed to the method.
+    cost : float
+        Predicted ordering seconds: a multiple of the measured seconds of the cheap start, or with
+        ``per_size`` a multiple of the size model of nested dissection (:func:`nd_seconds`).
+    saving : float
+        Expected fraction of the best predicted factorization time so far that this candidate saves.
+    max_n : int
+        Not tried on larger graphs (0: no limit).
+    """
+
+    label: str
+    method: str
+    options: tuple = ()
+    cost: float = 1.0
+    saving: float = 0.0
+    max_n: int = 0
+    per_size: bool = False
+
+
+#: the cheap start: one pivot rule of minimum degree (about 1.2 µs per vertex on 2-D meshes)
+START = Rung("mindegree/degree", "mindegree", (("score", "degree"),))
+
+#: the ladder, by break-even point. Costs: RCM and every pivot rule of minimum degree as multiples
+#: of the cheap start's time (measured 0.2-0.5x and 10-20x); nested dissection by the size model
+#: :func:`nd_seconds` (full polish 5-7x ``fast`` up to 10⁵ vertices, 1.5x above; three restarts 3x
+#: that). Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
+#: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
+#: 0.45; nd over nd-fast about 0.1; three restarts about 0.01).
+LADDER = (
+    Rung("rcm", "rcm", (), cost=0.5, saving=0.02),
+    Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True),
+    Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
+    Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
+    Rung("nd", "nd", (("effort", "normal"),), cost=6.0, saving=0.10, per_size=True),
+    Rung("nd-best", "nd", (("effort", "best"),), cost=20.0, saving=0.01, per_size=True),
+)
+
+#: seconds per n·log2(n) of ``nd --effort fast`` on the reference machine of
+#: :data:`reorder.cost.DEFAULT_RATES`, on graphs of about 10 neighbours per vertex (bundled meshes and
+#: 3-D grids of 10⁴-10⁵ rows: 1.5-4 µs on a fast day, up to 10 µs under load)
+ND_FAST_PER_NLOGN = 2.5e-6
+
+
+def nd_seconds(graph: Graph, rates) -> float:
+    """Size model of ``nd --effort fast``: ``ND_FAST_PER_NLOGN · n·log2 n · (1 + nnz/(20 n))``,
+    scaled by how much slower this machine factors than the reference one (within [0.5, 4])."""
+    from ..cost import DEFAULT_RATES
+
+    n = max(graph.n, 2)
+    speed = min(max(rates.ops / DEFAULT_RATES.ops, 0.5), 4.0)
+    return ND_FAST_PER_NLOGN * n * np.log2(n) * (1.0 + graph.indices.size / (20.0 * n)) * speed
+
+
+def _superlu_md(graph: Graph) -> np.ndarray:
+    """SciPy SuperLU's minimum degree on A + Aᵀ as an ordering in our convention (the inverse of its
+    ``perm_c``), from the factorization of an M-matrix with the graph's pattern (no pivoting)."""
+    import scipy.sparse as sp
+    from scipy.sparse.linalg import splu
+
+    W = graph.to_csr()
+    d = np.asarray(W.sum(axis=1)).ravel()
+    M = sp.csc_matrix(sp.diags(d + 1.0) - W)
+    lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
+    perm = np.empty(graph.n, dtype=np.int64)
+    perm[lu.perm_c] = np.arange(graph.n)
+    return perm
+
+
+def _run(graph: Graph, rung: Rung, seed: int, extra: dict):
+    from . import order
+
+    if rung.method == "superlu-md":
+        return _superlu_md(graph), {}
+    opts = dict(rung.options)
+    if rung.method == "nd":
+        opts.update({k: v for k, v in extra.items() if v is not None})
+    o = order(graph, rung.method, seed=seed, **opts)
+    return o.perm, o.info
+
+
+def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=None, ladder=LADDER,
+             nd_options: dict | None = None, time_scale: float = 1.0):
+    """Order ``graph`` by the cheapest candidate that pays, escalating while the saving exceeds the cost.
+
+    Parameters
+    ----------
+    graph : Graph
+    factorizations : float
+        How many factorizations of this pattern will follow (Newton steps, time steps): the saving
+        of a better order is counted that many times.
+    seed : int
+    rates : reorder.cost.Rates, optional
+        Default :func:`reorder.cost.machine_rates`.
+    ladder : sequence of Rung
+        Candidates after the cheap start, by break-even point.
+    nd_options : dict, optional
+        Extra settings for the nested-dissection rungs (``multisection``); None values ignored.
+    time_scale : float
+        Multiplies every predicted ordering cost (tests use it to force or forbid escalation).
+
+    Returns
+    -------
+    perm : ndarray of int64
+    info : dict
+        ``chosen``; ``candidates``: per label either ``{"nnz_factor", "factor_ops", "seconds",
+        "predicted_factor_seconds"}`` (ran), ``{"skipped": reason, "predicted_order_seconds",
+        "expected_saving_seconds"}`` (did not pay) or ``{"error": ...}``; ``stopped`` (why the
+        search ended); ``factorizations``; ``predicted_factor_seconds`` and ``rates`` (where the
+        machine rates came from).
+    """
+    rates = machine_rates() if rates is None else rates
+    k = max(float(factorizations), 0.0)
+    n = graph.n
+    extra = dict(nd_options or {})
+    results: dict[str, dict] = {}
+
+    def attempt(rung):
+        t0 = time.perf_counter()
+        perm, _ = _run(graph, rung, seed, extra)
+        sym = symbolic_factor(graph, perm)
+        sec = time.perf_counter() - t0
+        pred = predict_seconds(factor_counts(sym), rates)
+        results[rung.label] = {"nnz_factor": int(sym.nnz_factor), "factor_ops": int(sym.factor_ops),
+                               "seconds": round(sec, 4), "predicted_factor_seconds": pred}
+        return (pred, int(sym.nnz_factor)), perm, sec
+
+    key, perm, t_start = attempt(START)
+    best = (key, START.label, perm)
+    stopped = "every candidate ran"
+    for rung in ladder:
+        if rung.max_n and n > rung.max_n:
+            results[rung.label] = {"skipped": f"more than {rung.max_n} rows"}
+            continue
+        cost = rung.cost * (nd_seconds(graph, rates) if rung.per_size else t_start) * time_scale
+        if rung.per_size and rung.options == (("effort", "normal"),) and n > 100_000:
+            cost /= 4.0  # above 10⁵ vertices "normal" uses the cheaper settings
+        if rung.method == "superlu-md":
+            cost = 1.5 * best[0][0] * time_scale  # it factors an M-matrix of the pattern once
+        saving = rung.saving * best[0][0] * k
+        if saving <= cost:
+            results[rung.label] = {"skipped": "expected saving below predicted ordering time",
+                                   "predicted_order_seconds": round(cost, 4),
+                                   "expected_saving_seconds": round(saving, 4)}
+            if rung.label != "rcm":
+                stopped = (f"{rung.label} would cost about {cost:.3g} s for an expected saving of "
+                           f"{saving:.3g} s over {k:g} factorization(s)")
+                break
+            continue
+        try:
+            key, perm, _ = attempt(rung)
+        except Exception as exc:  # a failing candidate must not sink the others
+            results[rung.label] = {"error": f"{type(exc).__name__}: {exc}"}
+            continue
+        if key < best[0]:
+            best = (key, rung.label, perm)
+    for rung in ladder:
+        results.setdefault(rung.label, {"skipped": "search stopped before it"})
+    (pred, _), label, perm = best
+    info = {"chosen": label, "candidates": results, "stopped": stopped, "factorizations": k,
+            "predicted_factor_seconds": pred, "rates": rates.source}
+    return perm, info

@@ -1,0 +1,50 @@
+"""The cost-aware search: it stops, records every candidate and why it stopped, and escalating never
+makes the result worse than the cheap start (counts checked against SciPy SuperLU)."""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+
+from reorder.analysis import symbolic_factor
+from reorder.cost import DEFAULT_RATES
+from reorder.graph import from_matrix
+from reorder.orderings.escalation import LADDER, START, escalate
+
+from conftest import grid2d, grid3d, m_matrix, superlu_nnz_l
+
+
+def test_stops_at_the_cheap_start_when_nothing_pays():
+    g = from_matrix(grid2d(15))
+    perm, info = escalate(g, rates=DEFAULT_RATES, time_scale=1e9)
+    assert info["chosen"] == START.label
+    assert set(info["candidates"]) == {START.label} | {r.label for r in LADDER}
+    assert all("skipped" in info["candidates"][r.label] for r in LADDER)
+    assert "would cost" in info["stopped"]
+    ran = info["candidates"][START.label]
+    assert ran["nnz_factor"] == symbolic_factor(g, perm).nnz_factor
+    assert ran["seconds"] >= 0 and ran["predicted_factor_seconds"] > 0
+
+
+def test_escalation_never_worse_than_its_start():
+    A = m_matrix(grid3d(7))
+    g = from_matrix(A)
+    perm, info = escalate(g, rates=DEFAULT_RATES, time_scale=0.0, factorizations=10)
+    cands = info["candidates"]
+    assert info["stopped"] == "every candidate ran"
+    assert all("nnz_factor" in cands[r.label] for r in LADDER)
+    start = cands[START.label]
+    chosen = cands[info["chosen"]]
+    assert chosen["predicted_factor_seconds"] <= start["predicted_factor_seconds"]
+    assert chosen["nnz_factor"] <= start["nnz_factor"]
+    # the recorded count is SuperLU's (natural order on the permuted matrix, no pivoting)
+    assert chosen["nnz_factor"] == superlu_nnz_l(sp.csc_matrix(A[perm][:, perm]))
+
+
+def test_more_factorizations_escalate_further():
+    g = from_matrix(grid2d(25))
+    _, one = escalate(g, rates=DEFAULT_RATES, factorizations=1)
+    _, many = escalate(g, rates=DEFAULT_RATES, factorizations=1e6)
+    ran = lambda info: sum("nnz_factor" in c for c in info["candidates"].values())  # noqa: E731
+    assert ran(many) > ran(one)
+    assert many["candidates"][many["chosen"]]["nnz_factor"] <= one["candidates"][one["chosen"]]["nnz_factor"]
