@@ -780,8 +780,7 @@ def run_compare(
                 if perm is not None:
                     write_permutation(
                         perm_dir / f"{case.matrix}.{case.method}.txt", perm,
-                        header=[f"matrix {case.matrix}", f"method {case.method}", f"seed {case.seed}",
-                                "0-based; new position k holds old index perm[k]; reordered matrix A[perm][:, perm]"],
+                        method=case.method, seed=case.seed, matrix=case.matrix,
                     )
                 log.append(rec)
                 records[case.key] = rec

@@ -61,9 +61,14 @@ def test_order_stats_apply_round_trip(capsys, plate, tmp_path):
     back = tmp_path / "back.mtx"
     code, _, err = run(capsys, "apply", out_mtx, inv_file, "-o", back, "--inverse")
     assert code == 0, err
-    # (inverse of inverse) = perm applied again; check the plain inverse round trip instead
-    inv = read_permutation(inv_file, 144)
-    np.testing.assert_array_equal(inv[perm], np.arange(144))
+    # the file holds the inverse (line i: new position of old i) and says so in its header; the
+    # reader honours the header and returns the new-to-old list
+    raw = np.array([int(t) for t in inv_file.read_text().split() if t.isdigit()])
+    np.testing.assert_array_equal(raw[perm], np.arange(144))
+    assert "direction=old-to-new" in inv_file.read_text()
+    np.testing.assert_array_equal(read_permutation(inv_file, 144), perm)
+    B = A[perm][:, perm]  # apply --inverse on the inverse file applies perm itself (header and flag agree)
+    assert abs(read_matrix(back) - B[perm][:, perm]).max() == 0
 
 
 def test_stats_table_and_npy(capsys, plate, tmp_path):

@@ -133,7 +133,8 @@ def test_permutation_round_trips(tmp_path):
         f = tmp_path / f"p{base}.txt"
         write_permutation(f, perm, base=base, header=["made by a test"])
         lines = f.read_text().splitlines()
-        assert lines[0].startswith("#") and int(lines[1]) == perm[0] + base
+        body = [ln for ln in lines if not ln.startswith("#")]
+        assert lines[0].startswith("#") and int(body[0]) == perm[0] + base and "# made by a test" in lines
         np.testing.assert_array_equal(read_permutation(f, 17), perm)  # base detected
     f = tmp_path / "p.npy"
     write_permutation(f, perm)

@@ -31,9 +31,7 @@ def apply_cmd(
     if base is not None and base not in (0, 1):
         raise InputError(f"--base must be 0 or 1, not {base}")
     A = _load(matrix, drop_zeros)
-    p = read_permutation(perm, A.shape[0], base=base)
-    if inverse:
-        p = p.argsort(kind="stable")
+    p = read_permutation(perm, A.shape[0], base=base, direction="old-to-new" if inverse else None)
     B = A[p][:, p]
     write_matrix(output, B, comment=f"reorder {__version__}: {matrix.name} permuted by {perm.name}")
     typer.echo(f"wrote {output} ({B.shape[0]} rows, {B.nnz} entries)")

@@ -73,17 +73,11 @@ def order_cmd(
         opts["multisection"] = multisection
     _compiled(name)
     result = order(g, name, seed=seed, **opts)
-    perm = result.iperm if inverse else result.perm
-    header = [
-        f"reorder {__version__}: {'inverse ' if inverse else ''}permutation, method={name} seed={seed} base={base} n={g.n}",
-        f"matrix: {matrix.name}",
-        "line k holds the old index at new position k (reordered matrix = A[p][:, p])"
-        if not inverse
-        else "line i holds the new position of old index i",
-    ]
-    write_permutation(output, perm, base=base, header=header)
-    back = read_permutation(output, g.n, base=base)  # verify what was written
-    if not (back == perm).all():  # pragma: no cover - would be a bug
+    direction = "old-to-new" if inverse else "new-to-old"
+    write_permutation(output, result.perm, base=base, direction=direction, method=name, seed=seed,
+                      matrix=matrix.name)
+    back = read_permutation(output, g.n, base=base, direction=direction)  # verify what was written
+    if not (back == result.perm).all():  # pragma: no cover - would be a bug
         raise RuntimeError("permutation file verification failed")
     if labels is not None:
         lab = result.info.get("labels")
@@ -175,10 +169,7 @@ def stats_cmd(
     order_seconds = None
     tree_obj = None
     if perm is not None:
-        p = read_permutation(perm, g.n, base=base)
-        if inverse:
-            q = p.copy()
-            p = q.argsort(kind="stable")
+        p = read_permutation(perm, g.n, base=base, direction="old-to-new" if inverse else None)
         ordering = str(perm)
     elif method is not None:
         from ..orderings import order

@@ -8,7 +8,8 @@ they write a temporary file beside the target and rename it.
 
 from ..permutation import check_permutation
 from .paths import atomic_path
-from .permfile import read_permutation, write_permutation
+from .permfile import (DIRECTIONS, PermutationFile, permutation_header, read_permutation, read_permutation_file,
+                       write_permutation)
 from .readers import MAX_DIMENSION, MAX_ENTRIES, available_memory, estimate_bytes, matrix_name, read_matrix
 from .writers import write_matrix
 
@@ -17,6 +18,10 @@ __all__ = [
     "write_matrix",
     "read_permutation",
     "write_permutation",
+    "read_permutation_file",
+    "permutation_header",
+    "PermutationFile",
+    "DIRECTIONS",
     "atomic_path",
     "check_permutation",
     "MAX_DIMENSION",
