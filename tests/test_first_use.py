@@ -88,3 +88,30 @@ def test_examples_lists_the_suite_and_bundled_names_read_the_same_matrix(capsys,
     assert main(["stats", "bundled:no_such_matrix"]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "reorder examples" in err
+
+
+def test_apply_keeps_symmetric_storage_and_writes_harwell_boeing(capsys, tmp_path):
+    # references: SciPy's Matrix Market header reader (mminfo), SciPy's hb_read, NumPy indexing A[p][:, p]
+    import numpy as np
+
+    from reorder.cli import main
+    from reorder.io import read_matrix
+
+    A = grid2d(9, 7) * 1.0
+    A.data *= np.linspace(0.5, 2.0, A.nnz)  # values that differ entry by entry
+    A = sp.csr_matrix(A + A.T)
+    scipy.io.mmwrite(str(tmp_path / "a.mtx"), sp.coo_matrix(A), symmetry="symmetric")
+    p = np.random.default_rng(1).permutation(A.shape[0])
+    np.savetxt(tmp_path / "p.txt", p, fmt="%d")
+    want = A[p][:, p].toarray()
+    for name in ("b.mtx", "b.rsa", "b.rua"):
+        assert main(["apply", str(tmp_path / "a.mtx"), str(tmp_path / "p.txt"), "-o", str(tmp_path / name)]) == 0
+        np.testing.assert_array_equal(read_matrix(tmp_path / name).toarray(), want)
+    info = scipy.io.mminfo(str(tmp_path / "b.mtx"))
+    assert info[3:] == scipy.io.mminfo(str(tmp_path / "a.mtx"))[3:] and info[5] == "symmetric"
+    assert info[2] == (A.nnz + A.shape[0]) // 2  # one triangle with the diagonal
+    np.testing.assert_array_equal(scipy.io.hb_read(str(tmp_path / "b.rua")).toarray(), want)
+    assert (tmp_path / "b.rsa").read_text().splitlines()[2].startswith("RSA")
+    assert main(["apply", str(tmp_path / "a.mtx"), str(tmp_path / "p.txt"), "-o", str(tmp_path / "c.mtx"),
+                 "--both-triangles"]) == 0
+    assert scipy.io.mminfo(str(tmp_path / "c.mtx"))[2] == A.nnz

@@ -22,8 +22,14 @@ def apply_cmd(
     base: Optional[int] = typer.Option(None, "--base", metavar="0|1", help="Force the base of PERM.  [default: detect]"),
     inverse: bool = typer.Option(False, "--inverse", help="PERM holds the inverse permutation."),
     drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros."),
+    both_triangles: bool = typer.Option(False, "--both-triangles",
+                                        help="Store both triangles of a symmetric matrix (default: one, as symmetric storage)."),
 ):
-    """Write the permuted matrix A[p][:, p] for a solver that takes the matrix already ordered."""
+    """Write the permuted matrix A[p][:, p] for a solver that takes the matrix already ordered.
+
+    A symmetric matrix keeps symmetric storage (one triangle: Matrix Market 'symmetric',
+    Harwell-Boeing type RSA); the output format follows the file ending of --output.
+    """
     from ..io import read_permutation, write_matrix
 
     if _same_file(matrix, output):
@@ -33,7 +39,8 @@ def apply_cmd(
     A = _load(matrix, drop_zeros)
     p = read_permutation(perm, A.shape[0], base=base, direction="old-to-new" if inverse else None)
     B = A[p][:, p]
-    write_matrix(output, B, comment=f"reorder {__version__}: {matrix.name} permuted by {perm.name}")
+    write_matrix(output, B, comment=f"reorder {__version__}: {matrix.name} permuted by {perm.name}",
+                 symmetric=False if both_triangles else None)
     typer.echo(f"wrote {output} ({B.shape[0]} rows, {B.nnz} entries)")
 
 

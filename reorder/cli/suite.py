@@ -93,8 +93,8 @@ def demo_cmd(
     resume: bool = typer.Option(False, "--resume", help="Skip cases already finished in the output folder."),
 ):
     """Compare the orderings on a fixed set of bundled matrices (about a minute) and write a report."""
-    from .. import compare as _compare
+    from .. import demo as _demo
 
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
-    _compare.run_demo(out=out_alias or output, workers=workers, resume=resume)
+    _demo.run_demo(out=out_alias or output, workers=workers, resume=resume)

@@ -197,7 +197,8 @@ def read_matrix(path, *, drop_zeros: bool = False) -> sp.csr_matrix:
         ``.mtx`` / ``.mtx.gz`` (coordinate or array; real, integer, complex or pattern; general,
         symmetric, skew-symmetric or hermitian), Harwell–Boeing (``.rb``, ``.rua``, ``.rsa``, …,
         real assembled), or ``.npz`` written by :func:`scipy.sparse.save_npz`. Files with another
-        extension are recognised by their first line.
+        extension are recognised by their first line. ``bundled:NAME`` reads a bundled matrix
+        (``reorder examples`` lists them).
     drop_zeros : bool
         Drop explicitly stored zeros. By default they count as structural entries, as a solver
         stores them.
@@ -213,7 +214,9 @@ def read_matrix(path, *, drop_zeros: bool = False) -> sp.csr_matrix:
     InputError
         Missing, unreadable, malformed or non-square input, with a one-line reason.
     """
-    path = Path(path)
+    from ..bundled import resolve
+
+    path = resolve(path)  # ``bundled:NAME``: a matrix shipped with reorder
     if not path.exists():
         raise InputError("no such file", str(path))
     if path.is_dir():
