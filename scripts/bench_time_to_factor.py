@@ -15,6 +15,8 @@ Sections (each prints ratios against SciPy measured beside them and goes into th
   least of ``--repeat`` timed ones, and so is SciPy's: ``K · t``;
 * ``speed`` (``--big``): ordering seconds on the 10⁶-row 5-point grid for ``nd-fast``, ``nd`` and
   one-rule minimum degree, with SciPy's RCM time beside them;
+* ``degenerate`` (``--degenerate``): every method on a 10⁶-row diagonal matrix, a 10⁵-row dense row
+  plus path and a 10⁵-row star (target: each in at most 10 s);
 * ``cliffs`` (``--cliffs``): t / (n·log₂ n) for 2-D grids 200² … 1000² and 3-D grids 20³ … 60³ in
   steps of about 1.25× in n, and the largest jump between neighbours.
 
@@ -170,6 +172,34 @@ def run_speed(args):
     return out
 
 
+def degenerate_matrix(kind, n):
+    """Diagonal, star (arrow matrix) or a dense row plus a path (tridiagonal + full first row)."""
+    if kind == "diagonal":
+        return sp.identity(n, format="csr")
+    r = np.zeros(n - 1, dtype=np.int64)
+    S = sp.csr_matrix((np.ones(n - 1), (r, np.arange(1, n))), shape=(n, n))
+    band = [1.0, 1.0, 1.0] if kind == "dense-row-path" else [0.0, 1.0, 0.0]
+    return sp.csr_matrix(S + S.T + sp.diags(band, [-1, 0, 1], shape=(n, n)))
+
+
+def run_degenerate(args):
+    out = []
+    for kind, n in (("diagonal", 10**6), ("dense-row-path", 10**5), ("star", 10**5)):
+        A = degenerate_matrix(kind, n)
+        for m in reorder.available():
+            t0 = time.perf_counter()
+            try:
+                o = reorder.order(from_matrix(A), m)
+                ok = sorted(o.perm.tolist()) == list(range(n))
+                err = None
+            except Exception as exc:  # report, do not stop the benchmark
+                ok, err = False, f"{type(exc).__name__}: {exc}"
+            t = time.perf_counter() - t0
+            out.append({"matrix": kind, "n": n, "method": m, "seconds": t, "valid": ok, "error": err})
+            print(f"degenerate {kind:15s} n={n:8d} {m:10s} {t:7.2f}s {'ok' if ok else err}", flush=True)
+    return out
+
+
 def run_cliffs(args):
     out = {}
     for label, dims in (("2d", [(k, k) for k in _steps(200, 1000, 2)]), ("3d", [(k, k, k) for k in _steps(20, 60, 3)])):
@@ -211,6 +241,7 @@ def main():
     ap.add_argument("--no-many", action="store_true")
     ap.add_argument("--big", action="store_true", help="ordering speed on the 10^6-row grid")
     ap.add_argument("--cliffs", action="store_true")
+    ap.add_argument("--degenerate", action="store_true", help="every method on diagonal / dense-row / star matrices")
     ap.add_argument("--cliff-method", default="nd")
     ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_time_to_factor.json"))
     args = ap.parse_args()
@@ -232,6 +263,8 @@ def main():
         result["many"] = run_many(args, rates)
     if args.big:
         result["speed"] = run_speed(args)
+    if args.degenerate:
+        result["degenerate"] = run_degenerate(args)
     if args.cliffs:
         result["cliffs"] = run_cliffs(args)
     out = Path(args.out)

@@ -6,13 +6,10 @@ its factorization with :func:`reorder.cost.predict_seconds`, and then walks a la
 candidates. Each rung has a predicted ordering time (a multiple of the measured time of the cheap
 start, which gauges this machine and this graph) and an expected saving (a fraction, measured on the
 bundled meshes and grids, of the best predicted factorization time so far, times the number of
-factorizations). A rung runs only when its expected saving exceeds its predicted cost; the search
-stops at the first rung that does not pay. The order kept is the one of least predicted total
+factorizations). A rung runs only when its expected saving exceeds its predicted cost (the
+search escalates while that holds; a rung that builds on another runs only after it). The order kept is the one of least predicted total
 factorization time (ties: fewer entries of L, then the earlier candidate), so escalating never
 makes the result worse than the cheap start by the model's measure.
-
-The rungs are sorted by the break-even point ``cost / saving``, so that a rung that does not pay
-means the later ones would not either.
 """
 
 from __future__ import annotations
@@ -48,6 +45,10 @@ class Rung:
         Expected fraction of the best predicted factorization time so far that this candidate saves.
     max_n : int
         Not tried on larger graphs (0: no limit).
+    per_size : bool
+        Cost from the size model :func:`nd_seconds` instead of the cheap start's time.
+    after : str
+        Label of a rung that must have run first (its saving is counted from that rung's result).
     """
 
     label: str
@@ -57,24 +58,28 @@ class Rung:
     saving: float = 0.0
     max_n: int = 0
     per_size: bool = False
+    after: str = ""
 
 
 #: the cheap start: one pivot rule of minimum degree (about 1.2 µs per vertex on 2-D meshes)
 START = Rung("mindegree/degree", "mindegree", (("score", "degree"),))
 
-#: the ladder, by break-even point. Costs: RCM and every pivot rule of minimum degree as multiples
-#: of the cheap start's time (measured 0.2-0.5x and 10-20x); nested dissection by the size model
+#: the ladder, cheapest first. Costs: the mean-fill pivot rule (with initial supervariables), RCM
+#: and every pivot rule of minimum degree as multiples of the cheap start's time (measured 1.3-2x,
+#: 0.2-0.5x and 10-20x; the mean-fill rule predicted 12% less SuperLU time over the bundled
+#: meshes with n >= 5000, 20-35% on 3-D and elasticity meshes); nested dissection by the size model
 #: :func:`nd_seconds` (full polish 5-7x ``fast`` up to 10⁵ vertices, 1.5x above; three restarts 3x
 #: that). Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
 #: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
 #: 0.45; nd over nd-fast about 0.1; three restarts about 0.01).
 LADDER = (
+    Rung("mindegree/mean_fill", "mindegree", (("score", "mean_fill"), ("compress", True)), cost=1.7, saving=0.12),
     Rung("rcm", "rcm", (), cost=0.5, saving=0.02),
     Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True),
     Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
     Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
-    Rung("nd", "nd", (("effort", "normal"),), cost=6.0, saving=0.10, per_size=True),
-    Rung("nd-best", "nd", (("effort", "best"),), cost=20.0, saving=0.01, per_size=True),
+    Rung("nd", "nd", (("effort", "normal"),), cost=6.0, saving=0.10, per_size=True, after="nd-fast"),
+    Rung("nd-best", "nd", (("effort", "best"),), cost=20.0, saving=0.01, per_size=True, after="nd"),
 )
 
 #: seconds per n·log2(n) of ``nd --effort fast`` on the reference machine of
@@ -134,7 +139,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     rates : reorder.cost.Rates, optional
         Default :func:`reorder.cost.machine_rates`.
     ladder : sequence of Rung
-        Candidates after the cheap start, by break-even point.
+        Candidates after the cheap start, cheapest first.
     nd_options : dict, optional
         Extra settings for the nested-dissection rungs (``multisection``); None values ignored.
     time_scale : float
@@ -168,10 +173,14 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
 
     key, perm, t_start = attempt(START)
     best = (key, START.label, perm)
+    ran = {START.label}
     stopped = "every candidate ran"
     for rung in ladder:
         if rung.max_n and n > rung.max_n:
             results[rung.label] = {"skipped": f"more than {rung.max_n} rows"}
+            continue
+        if rung.after and rung.after not in ran:
+            results[rung.label] = {"skipped": f"needs {rung.after} first"}
             continue
         cost = rung.cost * (nd_seconds(graph, rates) if rung.per_size else t_start) * time_scale
         if rung.per_size and rung.options == (("effort", "normal"),) and n > 100_000:
@@ -181,18 +190,17 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
         saving = rung.saving * best[0][0] * k
         if saving <= cost:
             results[rung.label] = {"skipped": "expected saving below predicted ordering time",
-                                   "predicted_order_seconds": round(cost, 4),
-                                   "expected_saving_seconds": round(saving, 4)}
-            if rung.label != "rcm":
-                stopped = (f"{rung.label} would cost about {cost:.3g} s for an expected saving of "
-                           f"{saving:.3g} s over {k:g} factorization(s)")
-                break
+                                   "predicted_order_seconds": round(float(cost), 4),
+                                   "expected_saving_seconds": round(float(saving), 4)}
+            stopped = (f"{rung.label} would cost about {cost:.3g} s for an expected saving of "
+                       f"{saving:.3g} s over {k:g} factorization(s)")
             continue
         try:
             key, perm, _ = attempt(rung)
         except Exception as exc:  # a failing candidate must not sink the others
             results[rung.label] = {"error": f"{type(exc).__name__}: {exc}"}
             continue
+        ran.add(rung.label)
         if key < best[0]:
             best = (key, rung.label, perm)
     for rung in ladder:

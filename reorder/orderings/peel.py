@@ -20,7 +20,7 @@ from scipy.sparse.csgraph import connected_components
 
 from ..graph import Graph, subgraph
 
-__all__ = ["order_by_components", "peel", "Peeled"]
+__all__ = ["order_by_components", "peel", "Peeled", "wrap_tree"]
 
 
 def _labels(graph: Graph) -> tuple[int, np.ndarray]:
@@ -33,7 +33,7 @@ def _labels(graph: Graph) -> tuple[int, np.ndarray]:
 def order_by_components(graph: Graph, call, *, min_size: int = 3):
     """Order every connected component and lay them out one after another, in the order of their
     smallest vertex; components below ``min_size`` vertices keep their vertices in increasing order
-    without a call.
+    without a call (a connected graph of two or more vertices is always handed to ``call``).
 
     Parameters
     ----------
@@ -54,7 +54,7 @@ def order_by_components(graph: Graph, call, *, min_size: int = 3):
     n = graph.n
     ncomp, lab = _labels(graph)
     if ncomp <= 1:
-        if n < min_size:
+        if n <= 1:
             return np.arange(n, dtype=np.int64), {}
         return call(graph)
     # vertices grouped by component, each group in increasing vertex order (a stable sort); the
@@ -152,3 +152,36 @@ def peel(graph: Graph, dense: float = 10.0) -> Peeled:
     keep = ~(heavy | lone)
     core = np.flatnonzero(keep).astype(np.int64)
     return Peeled(isolated, dense_v, core, subgraph(graph, core))
+
+
+def wrap_tree(tree: dict | None, peeled: Peeled, n: int) -> dict | None:
+    """The separator tree of the core (JSON layout of nested dissection's tree) extended to the whole
+    graph: a ``"components"`` root over a leaf of the isolated vertices and the core's tree, with the
+    dense rows as its separator (placed last; removing them leaves the isolated vertices and the core
+    unconnected). Returns ``tree`` itself when nothing was peeled."""
+    if tree is None or peeled.trivial:
+        return tree
+    n_iso, n_core, n_dense = peeled.isolated.size, peeled.core.size, peeled.dense.size
+    nodes = [{"id": 0, "parent": -1, "depth": 0, "kind": "components", "children": [], "start": 0, "stop": int(n),
+              "separator": int(n_dense), "sizes": []}]
+    if n_iso:
+        nodes[0]["children"].append(1)
+        nodes[0]["sizes"].append(int(n_iso))
+        nodes.append({"id": 1, "parent": 0, "depth": 1, "kind": "leaf", "children": [], "start": 0,
+                      "stop": int(n_iso), "separator": 0, "sizes": []})
+    core_nodes = tree.get("nodes") or []
+    if n_core and core_nodes:
+        off = len(nodes)
+        root = int(tree.get("root", 0))
+        nodes[0]["children"].append(root + off)
+        nodes[0]["sizes"].append(int(n_core))
+        for nd in core_nodes:
+            nodes.append(dict(nd, id=nd["id"] + off, parent=(0 if nd["id"] == root else nd["parent"] + off),
+                              depth=nd["depth"] + 1, start=nd["start"] + n_iso, stop=nd["stop"] + n_iso,
+                              children=[c + off for c in nd["children"]]))
+    elif n_core:  # a core without a tree of its own: one leaf
+        nodes[0]["children"].append(len(nodes))
+        nodes[0]["sizes"].append(int(n_core))
+        nodes.append({"id": len(nodes), "parent": 0, "depth": 1, "kind": "leaf", "children": [],
+                      "start": int(n_iso), "stop": int(n_iso + n_core), "separator": 0, "sizes": []})
+    return dict(tree, n=int(n), root=0, nodes=nodes)
