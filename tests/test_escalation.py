@@ -42,7 +42,7 @@ def test_escalation_never_worse_than_its_start():
 
 
 def test_more_factorizations_escalate_further():
-    g = from_matrix(grid2d(25))
+    g = from_matrix(grid2d(20))
     _, one = escalate(g, rates=DEFAULT_RATES, factorizations=1)
     _, many = escalate(g, rates=DEFAULT_RATES, factorizations=1e6)
     ran = lambda info: sum("nnz_factor" in c for c in info["candidates"].values())  # noqa: E731
