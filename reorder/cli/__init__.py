@@ -5,6 +5,6 @@ holds a group of commands; importing it registers them on :data:`app`.
 """
 
 from ._app import app, main
-from . import matrix, ordering, suite  # noqa: F401  (importing registers the commands)
+from . import matrix, ordering, solve, suite  # noqa: F401  (importing registers the commands)
 
 __all__ = ["app", "main"]
