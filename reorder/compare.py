@@ -108,7 +108,9 @@ def _check_methods(methods) -> list[str]:
         if not m or m in out:
             continue
         if m not in known:
-            raise InputError(f"unknown method '{m}' (known: {', '.join(known)})")
+            from .orderings import resolve
+
+            resolve(m)  # a method spec NAME:OPTION=VALUE...; InputError if unknown or invalid
         out.append(m)
     if not out:
         raise InputError("no methods given")

@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from .io import atomic_path
+from .jsonable import jsonable as _jsonable
 
 __all__ = [
     "COLUMNS",
@@ -294,25 +295,6 @@ def best_table(rows, *, key: str = "nnz_factor", baseline: str = "rcm"):
             cells.append(f"{v / r[key]:.2f}" if r is not None and _ok(r) and r.get(key) else "–")
         table.add_row(*cells)
     return table
-
-
-def _jsonable(v):
-    if isinstance(v, dict):
-        return {str(k): _jsonable(x) for k, x in v.items()}
-    if isinstance(v, (list, tuple)):
-        return [_jsonable(x) for x in v]
-    if isinstance(v, np.ndarray):
-        return _jsonable(v.tolist())
-    if isinstance(v, np.integer):
-        return int(v)
-    if isinstance(v, (float, np.floating)):
-        v = float(v)
-        return v if math.isfinite(v) else None
-    if isinstance(v, np.bool_):
-        return bool(v)
-    if v is None or isinstance(v, (str, int, bool)):
-        return v
-    return str(v)
 
 
 def _columns(rows) -> list[str]:

@@ -35,6 +35,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import maximum_bipartite_matching
 
+from .defaults import BALANCE, COARSE_SIZE
 from .graph import Graph
 from .kernels import separators as _k
 from .kernels import traversal as _kt
@@ -114,7 +115,7 @@ def _local_random_order(n: int, rng, block: int = 256) -> np.ndarray:
     return visit[visit < n]
 
 
-def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = 128, min_ratio: float = 0.9,
+def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = COARSE_SIZE, min_ratio: float = 0.9,
             ewgt=None, vweight=None, sorted_visit: bool = False) -> list[Level]:
     """Multilevel hierarchy by repeated heavy-edge matching until at most ``coarse_size`` vertices
     remain (or a matching shrinks the graph by less than ``1 - min_ratio``).
@@ -166,7 +167,7 @@ def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = 128, min_ratio
     return levels
 
 
-def split_vector(indptr, indices, vector, *, ewgt=None, vweight=None, balance: float = 0.4,
+def split_vector(indptr, indices, vector, *, ewgt=None, vweight=None, balance: float = BALANCE,
                  mode: str = "window") -> tuple[np.ndarray, int]:
     """Two-way split of the vertices by a vector (e.g. a Fiedler vector).
 
@@ -226,7 +227,7 @@ def cover_separator(indptr, indices, part, *, vweight=None) -> np.ndarray:
     return part
 
 
-def refine_separator(indptr, indices, part, *, vweight=None, balance: float = 0.4, passes: int = 8,
+def refine_separator(indptr, indices, part, *, vweight=None, balance: float = BALANCE, passes: int = 8,
                      limit: int | None = None) -> np.ndarray:
     """Improve a vertex separator in place by Fiduccia–Mattheyses vertex moves under the balance
     window (no side heavier than ``floor((1 - balance) · W)``).
@@ -321,8 +322,8 @@ def _score(w, maxside):
     return (viol, int(w[2]), abs(int(w[0]) - int(w[1])))
 
 
-def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = 0.4, multilevel: bool = True,
-                     refine: bool = True, mode: str = "window", coarse_size: int = 100,
+def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE, multilevel: bool = True,
+                     refine: bool = True, mode: str = "window", coarse_size: int = COARSE_SIZE,
                      eigenvectors: int = 2, spectral_min: int = 2000, bfs_starts: int = 4,
                      keep: int = 3, smooth: int = 4) -> Separator:
     """Vertex separator of a connected graph: coarsen, split spectrally, cover, refine, project.

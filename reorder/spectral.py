@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import time
 import warnings
-from contextlib import nullcontext
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -31,9 +30,11 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 from scipy.sparse.linalg import LinearOperator, eigsh, lobpcg
 
+from .defaults import OPERATORS, SOLVERS, WEIGHTS
 from .errors import InputError
 from .graph import Graph
 from .kernels import traversal as _kt
+from .threads import blas_limit
 
 __all__ = [
     "FiedlerResult",
@@ -45,11 +46,8 @@ __all__ = [
     "SOLVERS",
 ]
 
-#: Names accepted by ``fiedler_vector(solver=...)`` (besides "auto"), also the ``path`` values.
-SOLVERS = ("dense", "eigsh", "lobpcg-amg", "lobpcg", "level-structure")
-
-_OPERATORS = ("laplacian", "normalized")
-_WEIGHTS = ("pattern", "values")
+# SOLVERS (reorder.defaults): names accepted by ``fiedler_vector(solver=...)`` (besides "auto"),
+# also the ``path`` values.
 
 
 @dataclass(frozen=True, eq=False)
@@ -93,10 +91,10 @@ class FiedlerResult:
 
 
 def _check(operator: str, weights: str) -> None:
-    if operator not in _OPERATORS:
-        raise InputError(f"operator must be one of {', '.join(_OPERATORS)}, not {operator!r}")
-    if weights not in _WEIGHTS:
-        raise InputError(f"weights must be one of {', '.join(_WEIGHTS)}, not {weights!r}")
+    if operator not in OPERATORS:
+        raise InputError(f"operator must be one of {', '.join(OPERATORS)}, not {operator!r}")
+    if weights not in WEIGHTS:
+        raise InputError(f"weights must be one of {', '.join(WEIGHTS)}, not {weights!r}")
 
 
 def _adjacency(graph: Graph, weights: str) -> sp.csr_matrix:
@@ -272,28 +270,6 @@ def level_structure_vector(graph: Graph, *, start: int | None = None) -> np.ndar
 
 # --------------------------------------------------------------------------------------------------
 # solvers
-
-
-_CONTROLLER = []
-
-
-def _blas_limit(threads):
-    """Context limiting BLAS threads (the small dense products of LOBPCG and the AMG coarse solve
-    lose badly to thread contention on a loaded 2-core machine); a no-op without threadpoolctl.
-    The library scan is done once per process."""
-    if threads is None:
-        return nullcontext()
-    if not _CONTROLLER:
-        try:
-            from threadpoolctl import ThreadpoolController
-
-            _CONTROLLER.append(ThreadpoolController())
-        except Exception:  # noqa: BLE001 - threadpoolctl missing or too old
-            _CONTROLLER.append(None)
-    ctl = _CONTROLLER[0]
-    if ctl is None:
-        return nullcontext()
-    return ctl.limit(limits=int(threads), user_api="blas")
 
 
 def _fix_sign(x):
@@ -503,7 +479,7 @@ def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = 
     accept : float
         Slack of the LOBPCG convergence test (see ``tol``).
     blas_threads : int or None
-        BLAS threads while solving (needs threadpoolctl; None leaves the setting alone).
+        BLAS threads while solving (None leaves the setting alone).
 
     Returns
     -------
@@ -543,7 +519,7 @@ def fiedler_vector(graph: Graph, *, operator: str = "laplacian", weights: str = 
     if "level-structure" not in plan:
         plan.append("level-structure")
 
-    with _blas_limit(blas_threads):
+    with blas_limit(blas_threads):
         result, retry = _run_plan(graph, A, y, L, deg, scale, plan, kk, info, seed=seed, tol=tol,
                                   maxiter=maxiter, x0=x0, operator=operator, accept=accept)
     name, w, V, its, res = result

@@ -158,9 +158,9 @@ def test_effort_flag(capsys, plate, tmp_path):
 
 def test_multisection_flag(capsys, plate, tmp_path):
     # --no-multisection reaches nd: the written tree has no multisector node and validates against
-    # the written permutation (tree checks of reorder.orderings.dissection)
+    # the written permutation (tree checks of reorder.orderings.nd.tree)
     from reorder.graph import from_matrix
-    from reorder.orderings.dissection import validate_tree
+    from reorder.orderings.nd import SeparatorTree
 
     p, t = tmp_path / "p.txt", tmp_path / "t.json"
     code, _, _ = run(capsys, "order", plate, "-m", "nd", "--no-multisection", "--tree", t, "-o", p)
@@ -168,4 +168,4 @@ def test_multisection_flag(capsys, plate, tmp_path):
     A = read_matrix(plate)
     tree = json.loads(t.read_text())
     assert not any(nd.get("multisector") for nd in tree["nodes"])
-    assert validate_tree(tree, read_permutation(p, A.shape[0]), from_matrix(A))
+    assert SeparatorTree.from_json(tree).validate(read_permutation(p, A.shape[0]), from_matrix(A))

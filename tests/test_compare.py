@@ -218,7 +218,7 @@ def test_failures_are_recorded_and_the_run_goes_on(suite, tmp_path, monkeypatch)
     (d / "broken.mtx").write_text("%%MatrixMarket matrix coordinate real general\n3 3 1\n9 9 1.0\n")
 
     @orderings.register("failing_for_test", summary="raises")
-    def failing(graph, *, seed=0, **options):
+    def failing(graph, s, seed=0):
         raise RuntimeError("this ordering always fails")
 
     try:

@@ -17,7 +17,7 @@ from scipy.sparse.csgraph import connected_components, reverse_cuthill_mckee
 from reorder.analysis import symbolic_factor
 from reorder.graph import from_edges, from_matrix
 from reorder.orderings import order
-from reorder.orderings.dissection import tree_summary, validate_tree
+from reorder.orderings.nd import SeparatorTree
 
 from conftest import grid2d, grid3d, m_matrix, superlu_nnz_l
 
@@ -41,7 +41,7 @@ def test_grid_below_ideal_nested_dissection(k):
     # balance window 0.3 a diagonal corner cut is allowed: it holds 30 % of the square when its
     # length is sqrt(0.6)·k ≈ 0.77 k (elementary geometry), the smallest admissible separator
     assert 0.75 * k <= o.info["top_separator"] <= 1.2 * k
-    validate_tree(o.info["separator_tree"], o.perm, G)
+    SeparatorTree.from_json(o.info["separator_tree"]).validate(o.perm, G)
 
 
 def test_fill_matches_dense_cholesky():
@@ -57,7 +57,7 @@ def test_tree_separators_separate_and_balance():
     G = from_matrix(grid3d(14))
     o = order(G, "nd", leaf_size=40, balance=0.4)
     tree = o.info["separator_tree"]
-    assert validate_tree(tree, o.perm, G)
+    assert SeparatorTree.from_json(tree).validate(o.perm, G)
     A = G.to_csr()
     for nd in tree["nodes"]:
         if nd["kind"] != "separator":
@@ -81,15 +81,15 @@ def test_tree_json_round_trip(tmp_path):
     f.write_text(json.dumps(o.info["separator_tree"]))
     tree = json.loads(f.read_text())
     assert tree == o.info["separator_tree"]
-    assert validate_tree(tree, o.perm, G)
-    summ = tree_summary(tree, levels=3)
+    assert SeparatorTree.from_json(tree).validate(o.perm, G)
+    summ = SeparatorTree.from_json(tree).summary(levels=3)
     assert summ[0]["separators"] == 1 and summ[1]["separators"] == 2
     assert summ[0]["sizes"][0] == o.info["top_separator"]
     # a corrupted tree is rejected
     bad = json.loads(json.dumps(tree))
     bad["nodes"][0]["separator"] += 1
     with pytest.raises(ValueError):
-        validate_tree(bad, o.perm, G)
+        SeparatorTree.from_json(bad).validate(o.perm, G)
 
 
 def test_disconnected_graph():
@@ -97,7 +97,7 @@ def test_disconnected_graph():
     G = from_matrix(A)
     o = order(G, "nd", leaf_size=20)
     assert np.array_equal(np.sort(o.perm), np.arange(G.n))
-    assert validate_tree(o.info["separator_tree"], o.perm, G)
+    assert SeparatorTree.from_json(o.info["separator_tree"]).validate(o.perm, G)
     assert o.info["separator_tree"]["nodes"][0]["kind"] == "components"
 
 
@@ -117,7 +117,7 @@ def test_complete_graph():
     o = order(G, "nd", leaf_size=50)
     assert np.array_equal(np.sort(o.perm), np.arange(n))
     assert symbolic_factor(G, o.perm).nnz_factor == n * (n + 1) // 2
-    validate_tree(o.info["separator_tree"], o.perm, G)
+    SeparatorTree.from_json(o.info["separator_tree"]).validate(o.perm, G)
 
 
 def test_star_graph():
@@ -126,7 +126,7 @@ def test_star_graph():
     G = from_edges(n, np.zeros(n - 1, dtype=int), np.arange(1, n))
     o = order(G, "nd", leaf_size=50)
     assert symbolic_factor(G, o.perm).nnz_factor == 2 * n - 1
-    validate_tree(o.info["separator_tree"], o.perm, G)
+    SeparatorTree.from_json(o.info["separator_tree"]).validate(o.perm, G)
 
 
 def test_plain_variant_and_determinism():
@@ -135,7 +135,7 @@ def test_plain_variant_and_determinism():
     b = order(G, "nd", seed=3)
     assert np.array_equal(a.perm, b.perm)
     plain = order(G, "nd", multilevel=False, refine=False, split="median")
-    validate_tree(plain.info["separator_tree"], plain.perm, G)
+    SeparatorTree.from_json(plain.info["separator_tree"]).validate(plain.perm, G)
 
 
 def test_rsb_planted_partition():
@@ -176,7 +176,7 @@ def test_subtree_choice_never_worse_and_tree_valid():
     pure = order(G, "nd", hybrid_max=0)
     hyb = order(G, "nd")
     assert symbolic_factor(G, hyb.perm).nnz_factor <= symbolic_factor(G, pure.perm).nnz_factor
-    assert validate_tree(hyb.info["separator_tree"], hyb.perm, G)
+    assert SeparatorTree.from_json(hyb.info["separator_tree"]).validate(hyb.perm, G)
     assert hyb.info["subtrees_tried"] > 0
 
 
@@ -197,7 +197,7 @@ def test_subtree_choice_climbs_where_minimum_degree_wins():
     assert climb.info["subtrees_to_mindegree"] > flat.info["subtrees_to_mindegree"]
     assert superlu_nnz_l(M[climb.perm][:, climb.perm]) <= superlu_nnz_l(M[flat.perm][:, flat.perm])
     assert superlu_nnz_l(M[climb.perm][:, climb.perm]) == symbolic_factor(G, climb.perm).nnz_factor
-    assert validate_tree(climb.info["separator_tree"], climb.perm, G)
+    assert SeparatorTree.from_json(climb.info["separator_tree"]).validate(climb.perm, G)
 
 
 def test_subtree_choice_gate_only_skips_rules():
@@ -209,7 +209,7 @@ def test_subtree_choice_gate_only_skips_rules():
     full = order(G, "nd", leaf_size=20, hybrid_gate=None)
     assert symbolic_factor(G, full.perm).nnz_factor <= symbolic_factor(G, gated.perm).nnz_factor
     for o in (gated, full):
-        assert validate_tree(o.info["separator_tree"], o.perm, G)
+        assert SeparatorTree.from_json(o.info["separator_tree"]).validate(o.perm, G)
         assert np.array_equal(np.sort(o.perm), np.arange(G.n))
 
 
@@ -222,7 +222,7 @@ def test_multisection_nodes_separate_and_never_worse():
     G = from_matrix(grid2d(k))
     o = order(G, "nd")
     tree = o.info["separator_tree"]
-    assert validate_tree(tree, o.perm, G)
+    assert SeparatorTree.from_json(tree).validate(o.perm, G)
     ms = [nd for nd in tree["nodes"] if nd.get("multisector")]
     assert o.info["subtrees_multisected"] >= len(ms) > 0  # wins, some later absorbed by a parent
     A = G.to_csr()
@@ -259,7 +259,7 @@ def test_restarts_keep_the_least_fill():
     two = order(G, "nd", seed=2, restarts=2)
     assert symbolic_factor(G, two.perm).nnz_factor <= symbolic_factor(G, one.perm).nnz_factor
     assert len(two.info["restarts"]) == 2
-    assert validate_tree(two.info["separator_tree"], two.perm, G)
+    assert SeparatorTree.from_json(two.info["separator_tree"]).validate(two.perm, G)
 
 
 def test_effort_presets():
@@ -276,7 +276,7 @@ def test_effort_presets():
     rcm = reverse_cuthill_mckee(G.to_csr(), symmetric_mode=True)  # SciPy baseline
     assert nnz["fast"] <= 0.6 * symbolic_factor(G, rcm).nnz_factor
     for o in (fast, normal, best):
-        assert validate_tree(o.info["separator_tree"], o.perm, G)
+        assert SeparatorTree.from_json(o.info["separator_tree"]).validate(o.perm, G)
     assert np.array_equal(order(G, "nd", effort="fast").perm, fast.perm)  # same seed, same order
     with pytest.raises(ValueError):
         order(G, "nd", effort="turbo")

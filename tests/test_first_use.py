@@ -29,17 +29,22 @@ def test_builtin_table_matches_what_the_modules_register():
     from reorder import orderings
 
     orderings._load_all()
-    for name, (module, rank, summary) in orderings._BUILTIN.items():
+    for name, b in orderings._BUILTIN.items():
         entry = orderings._REGISTRY[name]
-        assert entry.func.__module__ == f"reorder.orderings.{module}", name
-        assert (entry.order, entry.summary) == (rank, summary), name
+        assert entry.impl.__module__ == f"reorder.orderings.{b.module}", name
+        assert (entry.order, entry.summary) == (b.rank, b.summary), name
+        assert entry.settings is orderings.settings_class(name) and entry.preset == b.preset, name
+        assert entry.target == b.target, name
     assert set(orderings._REGISTRY) >= set(orderings._BUILTIN)
 
 
 def test_methods_and_help_import_no_numerics():
     # `reorder methods` and `--help` must not load SciPy, numba or the orderings (import cost, issue 17)
-    code = ("import sys\nfrom reorder.cli import main\nmain(['methods'])\nmain(['--help'])\nmain(['order', '--help'])\n"
-            "heavy = [m for m in ('scipy', 'numba', 'reorder.orderings.dissection', 'matplotlib') if m in sys.modules]\n"
+    # (the option list of `order` comes from the light settings records, not from the ordering modules)
+    code = ("import sys\nfrom reorder.cli import main\nmain(['methods', '--settings'])\nmain(['--help'])\n"
+            "main(['order', '--help'])\n"
+            "heavy = [m for m in ('numpy', 'scipy', 'numba', 'reorder.orderings.nd', 'reorder.orderings.mindegree',"
+            " 'matplotlib') if m in sys.modules]\n"
             "print('HEAVY', heavy)")
     r = _python(code)
     assert r.returncode == 0, r.stderr

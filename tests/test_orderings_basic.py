@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+
 import scipy.sparse as sp
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from reorder.analysis import analyse
+from reorder.errors import InputError
 from reorder.graph import from_matrix
 from reorder.orderings import available, order
 
@@ -45,8 +47,9 @@ def test_rcm_disconnected_per_component_with_isolated_vertices():
 
 
 def test_unknown_method():
-    with pytest.raises(KeyError):
-        order(from_matrix(grid2d(3)), "nope")
+    # an unknown name is a user error naming the closest method (difflib)
+    with pytest.raises(InputError, match="did you mean rcm"):
+        order(from_matrix(grid2d(3)), "rcn")
 
 
 @pytest.mark.parametrize("method", ["natural", "rcm"])

@@ -10,7 +10,6 @@ import os
 import sys
 import warnings
 from pathlib import Path
-from typing import Optional
 
 import typer
 
@@ -66,36 +65,18 @@ def _graph(A, weights: str = "pattern"):
     return from_matrix(A, weights=weights)
 
 
-def _check_method(name: str) -> str:
-    from ..orderings import available
+METHOD_HELP = ("Ordering name (see `reorder methods`), or a method spec NAME:OPTION=VALUE:... "
+               "(e.g. nd:effort=fast); default auto.")
 
-    names = available()
-    if name not in names:
-        raise InputError(f"unknown method '{name}' (available: {', '.join(names)})")
+
+def _check_method(name: str | None) -> str:
+    """The method (spec) to run, default :data:`reorder.orderings.DEFAULT_METHOD`; InputError for
+    an unknown name or a bad spec."""
+    from ..orderings import DEFAULT_METHOD, resolve
+
+    name = DEFAULT_METHOD if name is None else name.strip()
+    resolve(name)
     return name
-
-
-EFFORT_HELP = ("nd (and auto's nd candidate): fast, normal (default) or best. fast suits a single factorization "
-               "(5-7x quicker on 10^4-row meshes, somewhat more fill); best polishes every size and keeps the best of "
-               "three runs.")
-
-MULTISECTION_HELP = ("nd, nd-fast and auto: let subtrees take the multisection order (leaves first, then all their "
-                     "separators by minimum degree) where the exact fill is lower; default on up to 30 000 rows "
-                     "with effort normal, and with best. "
-                     "--no-multisection keeps every separator of the tree (--tree) a single dissection separator.")
-
-
-def _effort_option(effort: Optional[str], method: str) -> dict:
-    """``{"effort": ...}`` for the methods that take it; InputError for a bad value or method."""
-    if effort is None:
-        return {}
-    from ..orderings.dissection import EFFORTS
-
-    if effort not in EFFORTS:
-        raise InputError(f"--effort must be one of {', '.join(EFFORTS)}, not '{effort}'")
-    if method not in ("nd", "auto"):
-        raise InputError(f"--effort applies to nd and auto, not '{method}'")
-    return {"effort": effort}
 
 
 def _compiled(method: str) -> None:
@@ -103,13 +84,7 @@ def _compiled(method: str) -> None:
     ordering time printed afterwards is not compilation time."""
     from ..warmup import ensure_compiled
 
-    ensure_compiled([method], load=False)
-
-
-def _default_method() -> str:
-    from ..orderings import available
-
-    return "auto" if "auto" in available() else "rcm"
+    ensure_compiled([method.split(":", 1)[0]], load=False)
 
 
 def _same_file(a: Path, b: Path) -> bool:
@@ -120,19 +95,10 @@ def _same_file(a: Path, b: Path) -> bool:
 
 
 def _jsonable(obj):
-    import numpy as np
+    """JSON values of a result; arrays over 64 entries become ``"<array of N>"``."""
+    from ..jsonable import jsonable
 
-    if isinstance(obj, dict):
-        return {str(k): _jsonable(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_jsonable(v) for v in obj]
-    if isinstance(obj, np.ndarray):
-        return obj.tolist() if obj.size <= 64 else f"<array of {obj.size}>"
-    if isinstance(obj, np.generic):
-        return obj.item()
-    if isinstance(obj, Path):
-        return str(obj)
-    return obj
+    return jsonable(obj, max_array=64)
 
 
 def _fmt(v) -> str:

@@ -10,28 +10,30 @@ import typer
 
 from .. import __version__
 from ..errors import InputError
-from ._app import (EFFORT_HELP, MULTISECTION_HELP, _check_method, _compiled, _default_method, _effort_option, _fmt, _graph,
-                   _jsonable, _load, _same_file, _write_json, app)
+from ._app import METHOD_HELP, _check_method, _compiled, _fmt, _graph, _jsonable, _load, _same_file, _write_json, app
+from ._options import setting_options, with_setting_flags
 
 
 # ------------------------------------------------------------------------------------------------
 @app.command("order")
+@with_setting_flags
 def order_cmd(
     matrix: Path = typer.Argument(..., help="Matrix file: .mtx, .mtx.gz, Harwell-Boeing (.rb/.rua/.rsa) or .npz."),
-    output: Path = typer.Option(..., "--output", "-o", help="Permutation file to write (.txt or .npy)."),
-    method: Optional[str] = typer.Option(None, "--method", "-m", help="Ordering name (see `reorder methods`); default auto when available."),
-    base: int = typer.Option(0, "--base", help="Index base of the written file: 0 or 1."),
-    seed: int = typer.Option(0, "--seed", help="Seed for randomised steps; same seed, same permutation."),
+    output: Path = typer.Option(..., "--output", "-o", help="Permutation file to write (.txt or .npy).",
+                                metavar="FILE"),
+    method: Optional[str] = typer.Option(None, "--method", "-m", help=METHOD_HELP, metavar="METHOD[:NAME=VALUE...]"),
+    base: int = typer.Option(0, "--base", help="Index base of the written file: 0 or 1.", metavar="0|1"),
+    seed: int = typer.Option(0, "--seed", help="Seed for randomised steps; same seed, same permutation.",
+                             metavar="INT"),
     inverse: bool = typer.Option(False, "--inverse", help="Write the inverse permutation (new position of each old index) instead."),
-    operator: Optional[str] = typer.Option(None, "--operator", help="Spectral operator: laplacian or normalized."),
-    weights: str = typer.Option("pattern", "--weights", help="Edge weights for spectral steps: pattern (all ones) or values (|a_ij|)."),
-    parts: Optional[int] = typer.Option(None, "--parts", help="Number of parts for rsb (a power of two is natural)."),
-    labels: Optional[Path] = typer.Option(None, "--labels", help="Write the part label of each row (rsb) to this file."),
-    tree: Optional[Path] = typer.Option(None, "--tree", help="Write the separator tree (nd) as JSON to this file."),
-    effort: Optional[str] = typer.Option(None, "--effort", help=EFFORT_HELP),
-    multisection: Optional[bool] = typer.Option(None, "--multisection/--no-multisection", help=MULTISECTION_HELP),
+    labels: Optional[Path] = typer.Option(None, "--labels", help="Write the part label of each row (rsb) to this file.",
+                                          metavar="FILE"),
+    tree: Optional[Path] = typer.Option(None, "--tree", help="Write the separator tree (nd) as JSON to this file.",
+                                        metavar="FILE"),
     drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros (default: they are structural)."),
     info_json: bool = typer.Option(False, "--json", help="Print what the ordering reports as one JSON object."),
+    flags: dict = None,
+    sets: list = None,
 ):
     """Compute an ordering of MATRIX and write it as a permutation file.
 
@@ -41,36 +43,20 @@ def order_cmd(
     """
     from ..analysis import symbolic_factor
     from ..io import read_permutation, write_permutation
-    from ..orderings import order
+    from ..orderings import order, resolve
 
     if base not in (0, 1):
         raise InputError(f"--base must be 0 or 1, not {base}")
-    if weights not in ("pattern", "values"):
-        raise InputError(f"--weights must be 'pattern' or 'values', not '{weights}'")
-    if operator is not None and operator not in ("laplacian", "normalized"):
-        raise InputError(f"--operator must be 'laplacian' or 'normalized', not '{operator}'")
-    if parts is not None and parts < 1:
-        raise InputError(f"--parts must be at least 1, not {parts}")
+    name = _check_method(method)
+    opts = setting_options(order_cmd, name, flags, sets)
+    _, record = resolve(name, opts)  # every option checked before the matrix is read
     for out in (output, labels, tree):
         if out is not None and _same_file(matrix, out):
             raise InputError("refusing to overwrite the input matrix", str(out))
         if out is not None and not (out.parent if str(out.parent) else Path(".")).is_dir():
             raise InputError("output folder does not exist", str(out.parent))
-    name = _check_method(method or _default_method())
     A = _load(matrix, drop_zeros)
-    g = _graph(A, weights)
-    opts = {}
-    if operator is not None:
-        opts["operator"] = operator
-    if weights != "pattern":
-        opts["weights"] = weights
-    if parts is not None:
-        opts["parts"] = parts
-    opts.update(_effort_option(effort, name))
-    if multisection is not None:
-        if name not in ("nd", "nd-fast", "auto"):
-            raise InputError(f"--multisection/--no-multisection apply to nd, nd-fast and auto, not '{name}'")
-        opts["multisection"] = multisection
+    g = _graph(A, getattr(record, "weights", "pattern"))
     _compiled(name)
     result = order(g, name, seed=seed, **opts)
     direction = "old-to-new" if inverse else "new-to-old"
@@ -137,17 +123,23 @@ STAT_LABELS = [
 
 
 @app.command("stats")
+@with_setting_flags
 def stats_cmd(
     matrix: Path = typer.Argument(..., help="Matrix file."),
-    perm: Optional[Path] = typer.Option(None, "--perm", "-p", help="Permutation file (0- or 1-based, detected; .npy too)."),
-    method: Optional[str] = typer.Option(None, "--method", "-m", help="Compute this ordering on the fly instead of reading --perm."),
-    base: Optional[int] = typer.Option(None, "--base", help="Force the base of --perm (default: detect)."),
+    perm: Optional[Path] = typer.Option(None, "--perm", "-p", help="Permutation file (0- or 1-based, detected; .npy too).",
+                                        metavar="FILE"),
+    method: Optional[str] = typer.Option(None, "--method", "-m", help="Compute this ordering on the fly instead of "
+                                         "reading --perm (a method spec like order's).",
+                                         metavar="METHOD[:NAME=VALUE...]"),
+    base: Optional[int] = typer.Option(None, "--base", help="Force the base of --perm (default: detect).", metavar="0|1"),
     inverse: bool = typer.Option(False, "--inverse", help="The --perm file holds the inverse permutation."),
-    seed: int = typer.Option(0, "--seed", help="Seed for --method."),
-    effort: Optional[str] = typer.Option(None, "--effort", help=EFFORT_HELP),
-    tree: Optional[Path] = typer.Option(None, "--tree", help="Separator-tree JSON (from `order --tree`) to summarise."),
+    seed: int = typer.Option(0, "--seed", help="Seed for --method.", metavar="INT"),
+    tree: Optional[Path] = typer.Option(None, "--tree", help="Separator-tree JSON (from `order --tree`) to summarise.",
+                                        metavar="FILE"),
     drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
+    flags: dict = None,
+    sets: list = None,
 ):
     """Measure MATRIX in its natural order or under a permutation: bandwidth, profile, exact nnz(L),
     factor operations and elimination-tree height (symbolic Cholesky of A[p][:, p])."""
@@ -158,8 +150,16 @@ def stats_cmd(
 
     if perm is not None and method is not None:
         raise InputError("give --perm or --method, not both")
-    if effort is not None and method is None:
-        raise InputError("--effort needs --method")
+    given = [stats_cmd.setting_flags[k].flag for k, v in flags.items() if v is not None] + (["--set"] if sets else [])
+    if given and method is None:
+        raise InputError(f"{given[0]} needs --method")
+    opts = {}
+    if method is not None:
+        from ..orderings import resolve
+
+        method = _check_method(method)
+        opts = setting_options(stats_cmd, method, flags, sets)
+        resolve(method, opts)  # every option checked before the matrix is read
     if base is not None and base not in (0, 1):
         raise InputError(f"--base must be 0 or 1, not {base}")
     A = _load(matrix, drop_zeros)
@@ -174,10 +174,9 @@ def stats_cmd(
     elif method is not None:
         from ..orderings import order
 
-        name = _check_method(method)
-        _compiled(name)
-        res = order(g, name, seed=seed, **_effort_option(effort, name))
-        p, ordering, order_seconds = res.perm, name, res.seconds
+        _compiled(method)
+        res = order(g, method, seed=seed, **opts)
+        p, ordering, order_seconds = res.perm, method, res.seconds
         tree_obj = res.info.get("separator_tree")
     if tree is not None:
         if not tree.exists():
@@ -196,9 +195,9 @@ def stats_cmd(
     levels = None
     if tree_obj is not None:
         try:
-            from ..orderings.dissection import tree_summary
+            from ..orderings.nd.tree import SeparatorTree
 
-            levels = _jsonable(tree_summary(tree_obj))
+            levels = _jsonable(SeparatorTree.from_json(tree_obj).summary())
         except Exception as exc:  # malformed tree
             raise InputError(f"cannot summarise separator tree ({exc.__class__.__name__}: {exc})") from None
         d["separator_levels"] = levels

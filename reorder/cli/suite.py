@@ -13,12 +13,26 @@ from ._app import _check_method, app
 
 # ------------------------------------------------------------------------------------------------
 @app.command("methods")
-def methods_cmd():
-    """List the available orderings."""
-    from ..orderings import describe
+def methods_cmd(
+    settings: bool = typer.Option(False, "--settings", help="Also list each method's settings: name, values, "
+                                  "default and what it does."),
+):
+    """List the available orderings (and, with --settings, what each takes)."""
+    from ..orderings import declared_options, describe, preset_of
 
     for name, summary in describe().items():
         typer.echo(f"{name:<10} {summary}")
+        if not settings:
+            continue
+        fixed = preset_of(name)
+        if fixed:
+            typer.echo(f"{'':<12}(fixes {', '.join(f'{k}={v}' for k, v in fixed.items())})")
+        for f in declared_options(name):
+            default = ",".join(f.default) if isinstance(f.default, tuple) else f.default
+            default = "preset" if default is None else str(default).lower() if isinstance(default, bool) else default
+            flag = f" ({f.flag})" if f.flag else ""
+            typer.echo(f"{'':<12}{f.name}={f.metavar.lower() if f.kind != 'str' or not f.choices else f.metavar}"
+                       f"  [default {default}]{flag}  {f.help}")
 
 
 @app.command("examples")
@@ -51,7 +65,7 @@ def compare_cmd(
     inputs: List[Path] = typer.Argument(..., metavar="MATRIX...",
                                         help="Matrix files, folders of matrix files, or bundled:NAME (see `reorder examples`)."),
     methods: Optional[str] = typer.Option(None, "--methods", metavar="LIST",
-                                          help="Comma-separated ordering names.  [default: all, see `reorder methods`]"),
+                                          help="Comma-separated ordering names or method specs NAME:OPTION=VALUE (e.g. nd:effort=fast).  [default: all, see `reorder methods`]"),
     output: Path = typer.Option(Path("reorder-compare"), "--output", "-o", metavar="FOLDER",
                                 help="Folder for results, permutations, plots and report."),
     out_alias: Optional[Path] = typer.Option(None, "--out", hidden=True),

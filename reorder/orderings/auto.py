@@ -13,14 +13,17 @@ import numpy as np
 
 from ..analysis import symbolic_factor
 from ..graph import Graph
-from . import Ordering, get, register
+from ..permutation import inverse_permutation
+from ..errors import InputError
+from . import Ordering, register
+from .records import AutoSettings
 
 __all__ = ["auto"]
 
 
-def _candidates(n: int, candidates) -> list[str]:
+def _candidates(candidates) -> list[str]:
     if candidates is not None:
-        return [c.strip() for c in (candidates.split(",") if isinstance(candidates, str) else candidates)]
+        return list(candidates)
     from . import available
 
     names = available()
@@ -38,22 +41,22 @@ def _superlu_md(graph: Graph) -> np.ndarray:
     d = np.asarray(W.sum(axis=1)).ravel()
     M = sp.csc_matrix(sp.diags(d + 1.0) - W)
     lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
-    perm = np.empty(graph.n, dtype=np.int64)
-    perm[lu.perm_c] = np.arange(graph.n)
-    return perm
+    return inverse_permutation(lu.perm_c)
 
 
-@register("auto", summary="best of nd, minimum degree and RCM by exact nnz(L)", split_components=False, rank=5)
-def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 5000, effort: str | None = None,
-         multisection: bool | None = None, **options):
+@register("auto", AutoSettings, summary="best of nd, minimum degree and RCM by exact nnz(L)", split_components=False,
+          rank=5)
+def auto(graph: Graph, s: AutoSettings, seed: int = 0):
     """Order by every candidate method and keep the smallest nnz(L) (ties: fewer operations, then
     the earlier candidate).
 
     Parameters
     ----------
     graph : Graph
+    s : AutoSettings
+        The settings below (called with keywords, ``auto(graph, candidates="nd,rcm")``).
     seed : int
-    candidates : str or list of str, optional
+    candidates : sequence of str, optional
         Method names (comma-separated string allowed); default ``nd, mindegree, rcm`` (those
         registered).
     superlu_max : int
@@ -61,11 +64,12 @@ def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 500
         (candidate ``"superlu-md"``; it needs a numerical factorization of an M-matrix with the same
         pattern, so it is kept to small inputs). 0 turns it off.
     effort : {"fast", "normal", "best"}, optional
-        Passed to the ``nd`` candidate (see :func:`reorder.orderings.dissection.nested_dissection`).
+        Passed to the ``nd`` candidate (see :class:`reorder.orderings.nd.NdSettings`).
     multisection : bool, optional
         Passed to the ``nd`` candidate (default: its own).
-    **options
-        Ignored (candidates run with their defaults).
+
+    The other candidates run with their defaults; a candidate may be a method spec
+    (``nd:leaf_size=100``, see :func:`reorder.orderings.parse_method`).
 
     Returns
     -------
@@ -79,19 +83,22 @@ def auto(graph: Graph, *, seed: int = 0, candidates=None, superlu_max: int = 500
     J. R. Gilbert, E. G. Ng and B. W. Peyton, SIAM J. Matrix Anal. Appl. 15 (1994) 1075–1091 (the
     exact column counts that make comparing candidates cheap).
     """
-    from . import order
+    from . import order, resolve
 
     n = graph.n
-    names = _candidates(n, candidates)
+    candidates, superlu_max = s.candidates, s.superlu_max
+    names = _candidates(candidates)
+    for name in names:  # unknown names and bad specs are the user's to fix, before any work
+        if resolve(name)[0] == "auto":
+            raise InputError("auto: option candidates cannot include auto itself")
     results = {}
     best = None
     for name in names:
         t0 = time.perf_counter()
         try:
-            get(name)
             nd_opts = {}
             if name == "nd":
-                nd_opts = {k: v for k, v in (("effort", effort), ("multisection", multisection)) if v is not None}
+                nd_opts = {k: v for k, v in (("effort", s.effort), ("multisection", s.multisection)) if v is not None}
             o = order(graph, name, seed=seed, **nd_opts)
         except Exception as exc:  # a failing candidate must not sink the others
             results[name] = {"error": f"{type(exc).__name__}: {exc}"}

@@ -7,16 +7,17 @@ from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from ..graph import Graph
 from . import register
+from .settings import NoSettings
 
 
 @register("natural", summary="the order of the file (identity permutation)", split_components=False, rank=0)
-def natural(graph: Graph, *, seed: int = 0, **options):
+def natural(graph: Graph, s: NoSettings, seed: int = 0):
     """Identity permutation."""
     return np.arange(graph.n, dtype=np.int64), {}
 
 
 @register("rcm", summary="reverse Cuthill-McKee (SciPy), the bandwidth baseline", rank=10)
-def rcm(graph: Graph, *, seed: int = 0, **options):
+def rcm(graph: Graph, s: NoSettings, seed: int = 0):
     """Reverse Cuthill–McKee ordering of a connected graph, by SciPy.
 
     References

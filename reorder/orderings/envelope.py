@@ -26,6 +26,7 @@ from ..graph import Graph
 from ..kernels import envelope as _ke
 from ..spectral import fiedler_vector, pseudo_peripheral_pair
 from . import register
+from .records import SpectralSettings
 
 __all__ = ["spectral_envelope", "sloan_order", "profile_of", "spectral_sort"]
 
@@ -92,10 +93,13 @@ def _value_priority(x: np.ndarray, depth: float) -> np.ndarray:
     return depth * (float(x.max()) - x) / span
 
 
-@register("spectral", summary="Fiedler-vector envelope ordering refined by Sloan's algorithm", rank=20)
-def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian", weights: str = "pattern",
-                      refine: bool = True, candidates=("spectral", "hybrid", "sloan", "rcm", "polish"),
-                      polish_rounds: int = 2, large: int = 200_000, near_double: float = 0.05, **options):
+_FIEDLER_OPTIONS = ("tol", "maxiter", "solver", "fallbacks", "dense_max", "eigsh_max", "fallback_eigsh_max", "accept",
+                    "blas_threads")
+
+
+@register("spectral", SpectralSettings, summary="Fiedler-vector envelope ordering refined by Sloan's algorithm",
+          rank=20)
+def spectral_envelope(graph: Graph, s: SpectralSettings, seed: int = 0):
     """Spectral envelope ordering of a connected graph, with profile refinement.
 
     The vertices are sorted by the Fiedler vector of the chosen Laplacian (ties by index). With
@@ -127,8 +131,8 @@ def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian
     near_double : float
         When ``λ₃ − λ₂ <= near_double · λ₂`` (up to ``large`` vertices) the second eigenvector and the
         mixes ``v₂ ± v₃`` drive further hybrid candidates.
-    **options
-        Passed to :func:`reorder.spectral.fiedler_vector` (``tol``, ``maxiter``, ``solver`` ...).
+    tol, maxiter, solver, fallbacks, dense_max, eigsh_max, fallback_eigsh_max, accept, blas_threads
+        Passed to :func:`reorder.spectral.fiedler_vector`.
 
     Returns
     -------
@@ -144,7 +148,9 @@ def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian
     Methods Eng.; Kumfert & Pothen (1997), BIT.
     """
     n = graph.n
-    fopts = {k: v for k, v in options.items() if k in _FIEDLER_OPTIONS}
+    operator, weights, refine, candidates = s.operator, s.weights, s.refine, s.candidates
+    polish_rounds, large, near_double = s.polish_rounds, s.large, s.near_double
+    fopts = {k: getattr(s, k) for k in _FIEDLER_OPTIONS}
     t0 = time.perf_counter()
     k = 2 if (refine and n <= large and n >= 8) else 1
     fr = fiedler_vector(graph, operator=operator, weights=weights, seed=seed, k=k, **fopts)
@@ -217,6 +223,3 @@ def spectral_envelope(graph: Graph, *, seed: int = 0, operator: str = "laplacian
     info["seconds_refine"] = time.perf_counter() - t1
     return np.ascontiguousarray(best[1], dtype=np.int64), info
 
-
-_FIEDLER_OPTIONS = ("tol", "maxiter", "solver", "dense_max", "eigsh_max", "fallback_eigsh_max", "fallbacks",
-                    "accept", "x0", "blas_threads")

@@ -15,10 +15,11 @@ from ..analysis import symbolic_factor
 from ..graph import Graph
 from ..kernels.mindegree import quotient_min_degree
 from . import register
+from .records import SCORES, MinDegreeSettings
 
-__all__ = ["minimum_degree", "halo_minimum_degree"]
+__all__ = ["MinDegreeSettings", "minimum_degree", "halo_minimum_degree"]
 
-_SCORES = {"degree": 0, "mean_fill": 1, "fill": 2, "exact": 3, "exact_fill": 4, "exact_mean_fill": 5}
+_SCORES = {name: code for code, name in enumerate(SCORES)}  # rule name -> kernel rule number
 #: up to this many vertices ``score="auto"`` tries the approximate-degree rules and keeps the
 #: least nnz(L)
 AUTO_TRY_ALL = 200_000
@@ -91,8 +92,9 @@ def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bo
     return order, info
 
 
-@register("mindegree", summary="minimum degree (approximate external degrees, quotient graph)", split_components=False, rank=30)
-def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressive: bool = True, **options):
+@register("mindegree", MinDegreeSettings, summary="minimum degree (approximate external degrees, quotient graph)",
+          split_components=False, rank=30)
+def minimum_degree(graph: Graph, s: MinDegreeSettings, seed: int = 0):
     """Minimum degree ordering with approximate external degrees on the quotient graph.
 
     Repeatedly eliminates a (super)variable of least approximate external degree. The graph of the
@@ -167,8 +169,7 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
     n = graph.n
     if n <= 1:
         return np.arange(n, dtype=np.int64), {"pivots": n, "dense": 0}
-    score = options.get("score", "auto")
-    fifo = bool(options.get("fifo", False))
+    score, fifo, dense, aggressive = s.score, s.fifo, s.dense, s.aggressive
     if score == "auto":
         if n <= AUTO_EXACT_MAX_N:
             runs = _AUTO_FAST
@@ -177,13 +178,13 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
         else:
             runs = [("fill", False, 0, fifo)]
     elif score in _SCORES:
-        runs = [(score, bool(options.get("reverse", False)), int(options.get("delta", 0)), fifo)]
-    else:
-        raise ValueError(f"score must be one of {', '.join(list(_SCORES) + ['auto'])}, not {score!r}")
+        runs = [(score, s.reverse, s.delta, fifo)]
     role = np.ones(n, dtype=np.int8)
-    elbow = float(options.get("elbow", 0.2))
+    elbow = float(s.elbow)
     # initial supervariables: both ways in "auto" on graphs up to AUTO_TRY_ALL vertices, always above
-    compress = options.get("compress", ("auto" if n <= AUTO_TRY_ALL else True) if score == "auto" else False)
+    compress = s.compress
+    if compress is None:
+        compress = ("auto" if n <= AUTO_TRY_ALL else True) if score == "auto" else False
     best = None
     tried = {}
 
@@ -219,7 +220,9 @@ def minimum_degree(graph: Graph, *, seed: int = 0, dense: float = 10.0, aggressi
     return perm, info
 
 
-def halo_minimum_degree(graph: Graph, ordered_mask, *, seed: int = 0, **options) -> np.ndarray:
+def halo_minimum_degree(graph: Graph, ordered_mask, *, seed: int = 0, score: str = "degree",
+                        dense: float = MinDegreeSettings.dense, aggressive: bool = MinDegreeSettings.aggressive,
+                        fifo: bool = MinDegreeSettings.fifo, elbow: float = MinDegreeSettings.elbow) -> np.ndarray:
     """Minimum degree order of the vertices in ``ordered_mask``; the others form a halo.
 
     Halo vertices stay in the graph and count in the degrees of the ordered vertices, but are never
@@ -234,9 +237,10 @@ def halo_minimum_degree(graph: Graph, ordered_mask, *, seed: int = 0, **options)
         ``True`` for the vertices to order.
     seed : int
         Tie-breaking, as in :func:`minimum_degree`.
-    **options
-        ``dense``, ``aggressive``, ``fifo``, ``elbow`` as in :func:`minimum_degree`, and ``score``
-        (one of ``"degree"`` (default), ``"mean_fill"``, ``"fill"``; no ``"auto"`` here, since
+    dense, aggressive, fifo, elbow
+        As in :func:`minimum_degree` (defaults from :class:`MinDegreeSettings`).
+    score : str
+        One of ``"degree"`` (default), ``"mean_fill"``, ``"fill"``; no ``"auto"`` here, since
         the fill of a leaf is only known with its separator).
 
     Returns
@@ -260,10 +264,10 @@ def halo_minimum_degree(graph: Graph, ordered_mask, *, seed: int = 0, **options)
         graph,
         role,
         seed,
-        options.get("dense", 10.0),
-        options.get("aggressive", True),
-        bool(options.get("fifo", False)),
-        float(options.get("elbow", 0.2)),
-        _SCORES[options.get("score", "degree")],
+        dense,
+        aggressive,
+        bool(fifo),
+        float(elbow),
+        _SCORES[score],
     )
     return order

@@ -1,0 +1,120 @@
+"""The effort presets of nested dissection: one table from effort × graph size to settings.
+
+Every ``nd`` setting left at None takes its value from :data:`TABLE`, keyed by the ``effort``
+(``fast``, ``normal``, ``best``) and the size class of the whole graph (:func:`size_class`); an
+explicit setting overrides the table. Everything a user reads about the presets (docstrings, help
+texts) points here; the thresholds are named once, below.
+
+Reading the table: ``normal`` polishes graphs up to :data:`LARGE` vertices fully (six trials on
+the top subproblems carrying three smoothed candidates, three top eigenvectors, every pivot rule and
+multisection in the subtree choice up to :data:`MID`) and uses the cheaper settings above; ``fast``
+uses the cheaper settings at every size (one trial per subproblem, no smoothing, the subtree choice
+up to ``hybrid_max`` and only the ``degree`` rule, no multisection); ``best`` polishes fully at every
+size and keeps the least nnz(L) of three restarts. Why each value is what it is (with the
+measurements) is in DEVELOPERS.md, "Performance notes".
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ..records import EFFORTS
+
+__all__ = ["EFFORTS", "MID", "LARGE", "HUGE", "CLIMB", "ALL_RULES", "TABLE", "size_class", "Resolved", "resolve"]
+
+
+#: from this many vertices ("mid"): the cheaper settings give the top subproblems 2 trials carrying
+#: three coarse candidates each; "normal" stops multisection and narrows the wide subtree nodes
+MID = 30_000
+#: above this many vertices ("large"): "normal" uses the cheaper settings
+LARGE = 100_000
+#: above this many vertices ("huge"): larger leaves, one trial everywhere, the subtree choice does
+#: not climb ("best" excepted)
+HUGE = 300_000
+#: the subtree choice climbs up to subtrees of this size while minimum degree keeps winning
+CLIMB = 100_000
+
+#: the pivot rules of the full subtree choice ("name/k": tie order of seed k, see
+#: :mod:`reorder.orderings.seeds`)
+ALL_RULES = ("degree", "mean_fill", "fill", "exact", "degree/1")
+_D = ("degree",)
+#: ``hybrid_max`` / ``hybrid_wide`` value meaning "the whole graph"
+WHOLE = -1
+
+_COLUMNS = ("trials", "top_trials", "keep", "top_keep", "smooth", "top_smooth", "spectral_min", "leaf_size",
+            "top_eigenvectors", "hybrid_max", "hybrid_wide", "hybrid_scores", "hybrid_climb", "multisection",
+            "restarts")
+
+# top_eigenvectors: at least this many (0: as many as ``eigenvectors``)
+#                            trials top   keep top  smooth top   spectral leaf  top  hybrid hybrid  hybrid     climb  multi- restarts
+#                                   trials     keep       smooth min      size  eig  max    wide    scores            section
+_ROWS = {
+    ("fast", "small"):      (1,    6,    1,   1,   0,     0,   2000,    200,  0,   1000,  WHOLE,  _D,        CLIMB, False,  1),
+    ("fast", "mid"):        (1,    2,    1,   3,   0,     0,   2000,    200,  0,   1000,  2000,   _D,        CLIMB, False,  1),
+    ("fast", "large"):      (1,    2,    1,   3,   0,     0,   2000,    200,  0,   1000,  2000,   _D,        CLIMB, False,  1),
+    ("fast", "huge"):       (1,    1,    1,   1,   0,     0,   2000,    400,  0,   2000,  2000,   _D,        0,     False,  1),
+    ("normal", "small"):    (2,    6,    3,   3,   4,     4,   500,     50,   3,   WHOLE, WHOLE,  ALL_RULES, CLIMB, True,   1),
+    ("normal", "mid"):      (2,    6,    3,   3,   4,     4,   500,     50,   3,   WHOLE, 2000,   ALL_RULES, CLIMB, False,  1),
+    ("normal", "large"):    (2,    2,    1,   3,   0,     0,   2000,    200,  0,   1000,  2000,   _D,        CLIMB, False,  1),
+    ("normal", "huge"):     (1,    1,    1,   1,   0,     0,   2000,    400,  0,   2000,  2000,   _D,        0,     False,  1),
+    ("best", "small"):      (2,    6,    3,   3,   4,     4,   500,     50,   3,   WHOLE, WHOLE,  ALL_RULES, CLIMB, True,   3),
+    ("best", "mid"):        (2,    6,    3,   3,   4,     4,   500,     50,   3,   WHOLE, WHOLE,  ALL_RULES, CLIMB, True,   3),
+    ("best", "large"):      (2,    6,    3,   3,   4,     4,   500,     50,   3,   WHOLE, WHOLE,  ALL_RULES, CLIMB, True,   3),
+    ("best", "huge"):       (2,    6,    3,   3,   4,     4,   500,     50,   3,   WHOLE, WHOLE,  ALL_RULES, CLIMB, True,   3),
+}
+
+#: ``TABLE[effort, size class]`` → ``{setting: value}``
+TABLE = {key: dict(zip(_COLUMNS, row)) for key, row in _ROWS.items()}
+
+
+def size_class(n: int) -> str:
+    """``"small"`` (below :data:`MID`), ``"mid"`` (up to :data:`LARGE`), ``"large"`` (up to
+    :data:`HUGE`) or ``"huge"``."""
+    return "small" if n < MID else "mid" if n <= LARGE else "large" if n <= HUGE else "huge"
+
+
+@dataclass(frozen=True)
+class Resolved:
+    """Concrete settings of one nested-dissection run on a graph of ``n`` vertices; pairs are
+    (other subproblems, top subproblems)."""
+
+    leaf_size: int
+    trials: int
+    top_trials: int
+    keep: tuple
+    smooth: tuple
+    eigenvectors: tuple
+    spectral_min: int
+    hybrid_max: int
+    hybrid_wide: int
+    hybrid_scores: tuple
+    hybrid_climb: int
+    multisection: bool
+    restarts: int
+
+
+def resolve(s, n: int) -> Resolved:
+    """Fill the settings ``s`` left at None from :data:`TABLE` for a graph of ``n`` vertices.
+
+    An explicit ``keep`` or ``smooth`` applies to the top subproblems too.
+    """
+    row = TABLE[s.effort, size_class(n)]
+
+    def pick(name, column=None):
+        v = getattr(s, name)
+        return row[column or name] if v is None else v
+
+    whole = lambda v: n if v == WHOLE else v  # noqa: E731
+    keep = pick("keep")
+    smooth = pick("smooth")
+    top_keep = row["top_keep"] if s.keep is None else int(s.keep)
+    top_smooth = row["top_smooth"] if s.smooth is None else int(s.smooth)
+    top_eig = s.top_eigenvectors if s.top_eigenvectors is not None else max(int(s.eigenvectors),
+                                                                             row["top_eigenvectors"])
+    return Resolved(
+        leaf_size=max(int(pick("leaf_size")), 2), trials=int(pick("trials")), top_trials=int(pick("top_trials")),
+        keep=(int(keep), int(top_keep)), smooth=(int(smooth), int(top_smooth)),
+        eigenvectors=(int(s.eigenvectors), int(top_eig)), spectral_min=int(pick("spectral_min")),
+        hybrid_max=int(whole(pick("hybrid_max"))), hybrid_wide=int(whole(pick("hybrid_wide"))),
+        hybrid_scores=tuple(pick("hybrid_scores")), hybrid_climb=int(pick("hybrid_climb")),
+        multisection=bool(pick("multisection")), restarts=int(pick("restarts")))
