@@ -129,3 +129,27 @@ def method_settings(method: str, opts: dict):
 
     entry, record = resolve(method, opts)
     return entry, record
+
+
+def flag_help(setting: str) -> str:
+    """The help text of the flag of ``setting`` (for commands that take one flag by hand)."""
+    return next(fl.help for fl in _flags() if fl.setting == setting)
+
+
+def flag_options(method: str, **values) -> dict:
+    """``{setting: value}`` of the given flag values (None: not given), checked to apply to
+    ``method`` (InputError naming the methods that take the flag otherwise)."""
+    from ..orderings import declared_options
+
+    name = str(method).split(":", 1)[0]
+    own = {f.name for f in declared_options(name)}
+    flags = {fl.setting: fl for fl in _flags()}
+    out = {}
+    for setting, value in values.items():
+        if value is None:
+            continue
+        if setting not in own:
+            fl = flags[setting]
+            raise InputError(f"{fl.flag} applies to {', '.join(fl.methods)}, not '{name}'")
+        out[setting] = value
+    return out

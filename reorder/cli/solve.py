@@ -10,7 +10,8 @@ from typing import Optional
 import typer
 
 from ..errors import InputError
-from ._app import EFFORT_HELP, _check_method, _compiled, _default_method, _effort_option, _jsonable, _load, _same_file, app
+from ._app import _check_method, _compiled, _jsonable, _load, _same_file, app
+from ._options import flag_help, flag_options
 
 PERM_HELP = "Permutation file to use instead of computing an ordering (header honoured; .npy too)."
 INVERSE_HELP = "The --perm file holds the new position of each old index (old-to-new)."
@@ -30,8 +31,8 @@ def _factor(A, method, perm_arr, seed, effort):
 
     opts = {}
     if perm_arr is None:
-        method = _check_method(method or _default_method())
-        opts = _effort_option(effort, method)
+        method = _check_method(method)
+        opts = flag_options(method, effort=effort)
         _compiled(method)  # a cold kernel cache compiles first, saying so, outside the ordering time
     elif effort is not None:
         raise InputError("--effort needs --method, not --perm")
@@ -70,7 +71,7 @@ def solve_cmd(
                                        "Default: b = A x* with x* drawn from --seed (the error against x* is shown)."),
     solution: Optional[Path] = typer.Option(None, "--solution", help="Write the solution: .npy or .mtx (array)."),
     seed: int = typer.Option(0, "--seed", help="Seed of the ordering and of the generated right-hand side."),
-    effort: Optional[str] = typer.Option(None, "--effort", help=EFFORT_HELP),
+    effort: Optional[str] = typer.Option(None, "--effort", help=flag_help("effort")),
     drop_zeros: bool = typer.Option(False, "--drop-zeros", help="Ignore explicitly stored zeros."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
 ):
@@ -203,7 +204,7 @@ def sweep_cmd(
     inverse: bool = typer.Option(False, "--inverse", help=INVERSE_HELP),
     rhs: Optional[Path] = typer.Option(None, "--rhs", help="One right-hand side for every matrix (default: b = A x*)."),
     seed: int = typer.Option(0, "--seed", help="Seed of the ordering and of the generated right-hand sides."),
-    effort: Optional[str] = typer.Option(None, "--effort", help=EFFORT_HELP),
+    effort: Optional[str] = typer.Option(None, "--effort", help=flag_help("effort")),
     baseline: bool = typer.Option(True, "--baseline/--no-baseline", help="Also time SciPy's spsolve on each matrix."),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object."),
 ):
@@ -222,8 +223,8 @@ def sweep_cmd(
     name = None
     opts = {}
     if p is None:
-        name = _check_method(method or _default_method())
-        opts = _effort_option(effort, name)
+        name = _check_method(method)
+        opts = flag_options(name, effort=effort)
         _compiled(name)
     elif effort is not None:
         raise InputError("--effort needs --method, not --perm")
