@@ -717,6 +717,7 @@ def run_compare(
 
     cases = make_cases(matrices, methods, seed=seed, factor=factor, factor_max_ops=factor_max_ops,
                        factor_mem_fraction=factor_mem_fraction)
+    skipped: dict[str, dict] = {}  # cases left out on purpose: a row that says why, in its cells
     if exclude:
         kept, left_out = [], {}
         for c in cases:
@@ -725,8 +726,13 @@ def run_compare(
                 kept.append(c)
             else:
                 left_out.setdefault((c.method, why), []).append(c.matrix)
+                rec = _error_record(c, str(why))
+                rec["status"] = "skipped"
+                skipped[c.key] = rec
         notes += [f"{m} not run on {', '.join(names)}: {why}" for (m, why), names in left_out.items()]
-        cases = kept
+        all_cases, cases = cases, kept
+    else:
+        all_cases = cases
 
     log_path = out / LOG_NAME
     done: dict[str, dict] = {}
@@ -789,8 +795,9 @@ def run_compare(
     log.close()
     _CACHE.clear()  # do not hold the last matrix after the run
 
+    records.update(skipped)
     rows = []
-    for c in cases:
+    for c in all_cases:
         rec = dict(records[c.key])
         rec.pop("key", None)
         rec.pop("_perm", None)
@@ -809,7 +816,7 @@ def run_compare(
                                  plots=plots)
     paths["log"] = log_path
     paths["permutations"] = perm_dir
-    failed = sum(1 for r in rows if r.get("status") != "ok")
+    failed = sum(1 for r in rows if r.get("status") == "error")
     result = CompareResult(rows=rows, out=out, paths=paths, methods=methods, ran=len(todo), reused=reused,
                            failed=failed, notes=notes, seconds=time.perf_counter() - t_start)
     if show and print_table:

@@ -18,6 +18,7 @@ import numpy as np
 
 from .io import atomic_path
 from .jsonable import jsonable as _jsonable
+from .plots import REFERENCES, plot_profiles, plot_relative, plot_spy, profile_problems
 
 __all__ = [
     "COLUMNS",
@@ -251,6 +252,8 @@ def results_table(rows, *, key: str = "nnz_factor", title: str | None = None):
             r = idx.get((m, s))
             if r is None:
                 cells.append("")
+            elif r.get("status") == "skipped":
+                cells.append("[dim]skipped[/dim]")
             elif not _ok(r):
                 cells.append("[red]error[/red]")
             elif s in best.get(m, []):
@@ -342,9 +345,9 @@ def _md_metric(rows, matrices, methods, key, mark_best: bool) -> list[str]:
         for s in methods:
             r = idx.get((m, s))
             if r is None:
-                cells.append("")
+                cells.append("not run")
             elif not _ok(r):
-                cells.append("error")
+                cells.append(f"{r.get('status')}: {_short(r.get('error'), 60)}".replace("|", "/"))
             else:
                 txt = _fmt(r.get(key), key)
                 cells.append(f"**{txt}**" if s in best.get(m, []) else txt)
@@ -387,190 +390,32 @@ def summary_markdown(rows, *, notes=(), meta=None) -> str:
                       ("bandwidth", True), ("profile", True), ("etree_height", True)):
         out += ["", f"## {_LABELS[key]}" + (" (best in bold)" if mark else ""), ""]
         out += _md_metric(rows, matrices, methods, key, mark)
-    frows = [r for r in rows if r.get("factor_status")]
-    if frows:
+    if any(r.get("factor_status") for r in rows):
         out += ["", "## Factorization (SciPy SuperLU, natural order on the reordered matrix, no pivoting)", "",
-                "| matrix | method | status | factored | nnz(L) | storage MB | seconds | note |",
-                "|---|---|---|---|---:|---:|---:|---|"]
-        for r in frows:
-            out.append(
-                f"| {r['matrix']} | {r['method']} | {r['factor_status']} | {r.get('factor_matrix') or '–'} | "
-                f"{_fmt(r.get('factor_nnz_l'))} | {_fmt(r.get('factor_mb'), '_mb')} | "
-                f"{_fmt(r.get('factor_seconds'), '_seconds')} | {r.get('factor_message') or ''} |"
-            )
-        if any(r.get("factor_matrix") == "m-matrix" for r in frows):
+                "nnz(L) / seconds per ordering. " + SUPERLU_NOTE, "",
+                "| matrix | " + " | ".join(methods) + " |", "|---|" + "---:|" * len(methods)]
+        for m in matrices:
+            cells = []
+            for s in methods:
+                r = idx.get((m, s))
+                if r is None or not _ok(r):
+                    cells.append("not run" if r is None else f"{r.get('status')}: {_short(r.get('error'), 60)}")
+                elif r.get("factor_status") != "ok":
+                    cells.append(_short(r.get("factor_message") or r.get("factor_status") or "not factored", 60))
+                else:
+                    cells.append(f"{_compact(r.get('factor_nnz_l'))} / {_fmt(r.get('factor_seconds'), '_seconds')} s"
+                                 + (" (M-matrix)" if r.get("factor_matrix") == "m-matrix" else ""))
+            out.append(f"| {m} | " + " | ".join(c.replace("|", "/") for c in cells) + " |")
+        if any(r.get("factor_matrix") == "m-matrix" for r in rows):
             out += ["", "Where a matrix is not symmetric positive definite, the M-matrix with the same "
                         "(symmetrized) pattern was factored instead: off-diagonals −1, diagonal = degree + 1."]
-    failed = [r for r in rows if not _ok(r)]
+    failed = [r for r in rows if r.get("status") == "error"]
     if failed:
         out += ["", "## Failures", ""]
         out += [f"- {r['matrix']} / {r['method']}: {r.get('error') or 'unknown error'}" for r in failed]
     if notes:
         out += ["", "## Notes", ""] + [f"- {n}" for n in notes]
     return "\n".join(out) + "\n"
-
-
-# --------------------------------------------------------------------------------------------------
-# plots
-# --------------------------------------------------------------------------------------------------
-def _figure(figsize):
-    """A matplotlib Figure drawn by the Agg canvas, without pyplot's global state."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
-    fig = Figure(figsize=figsize)
-    FigureCanvasAgg(fig)
-    return fig
-
-
-def _save(fig, stem: Path) -> list[Path]:
-    paths = []
-    for ext in (".png", ".svg"):
-        p = stem.with_suffix(ext)
-        with atomic_path(p, suffix=ext) as tmp:
-            fig.savefig(tmp, dpi=110, format=ext[1:], metadata={"Date": None} if ext == ".svg" else None)
-        paths.append(p)
-    return paths
-
-
-def _pattern(matrix):
-    import scipy.sparse as sp
-
-    A = sp.coo_matrix(matrix)
-    return A.shape[0], A.row.astype(np.int64), A.col.astype(np.int64)
-
-
-def plot_spy(stem, name: str, matrix, perms: dict, *, bins: int = 200) -> list[Path]:
-    """Spy plots of ``matrix`` in its own order and reordered by each permutation.
-
-    Matrices with at most ``bins`` rows are drawn exactly, one image cell per entry; larger ones as
-    density images: the reordered matrix is cut into ``bins × bins`` blocks and each block is shaded
-    by its number of nonzeros (log scale). ``bins`` stays below the pixel size of a panel so that no
-    entry is lost to resampling.
-
-    Parameters
-    ----------
-    stem : path-like
-        Output path without extension; ``.png`` and ``.svg`` are written.
-    name : str
-        Matrix name for the title.
-    matrix : sparse matrix
-    perms : dict
-        ``{method: perm}`` with ``A[perm][:, perm]`` the reordered matrix.
-
-    Returns
-    -------
-    list of Path
-    """
-    from matplotlib.colors import LogNorm
-
-    n, rows, cols = _pattern(matrix)
-    panels = [("original", None)] + list(perms.items())
-    ncol = min(4, len(panels))
-    nrow = -(-len(panels) // ncol)
-    fig = _figure((3.0 * ncol, 3.1 * nrow))
-    axes = fig.subplots(nrow, ncol, squeeze=False)
-    for ax in axes.ravel()[len(panels):]:
-        ax.axis("off")
-    exact = n <= bins
-    nb = max(1, min(bins, n))
-    for ax, (label, perm) in zip(axes.ravel(), panels):
-        if perm is None:
-            r, c = rows, cols
-        else:
-            inv = np.empty(n, dtype=np.int64)
-            inv[np.asarray(perm, dtype=np.int64)] = np.arange(n, dtype=np.int64)
-            r, c = inv[rows], inv[cols]
-        counts = np.bincount((r * nb // n) * nb + (c * nb // n), minlength=nb * nb).reshape(nb, nb)
-        img = np.ma.masked_equal(counts.astype(float), 0)
-        if exact:
-            ax.imshow(img, cmap="Blues", vmin=0, vmax=1.2, extent=(0, n, n, 0), interpolation="none")
-        else:
-            vmax = max(float(counts.max()), 2.0)
-            ax.imshow(img, cmap="viridis", norm=LogNorm(vmin=1, vmax=vmax), extent=(0, n, n, 0),
-                      interpolation="none")
-        ax.set_aspect("equal")
-        ax.set_title(label, fontsize=9)
-        ax.set_xticks([])  # tick labels would cost most of the drawing time and say little
-        ax.set_yticks([])
-    kind = "nonzeros" if exact else f"nonzeros per block, {nb}×{nb} blocks, log scale"
-    fig.suptitle(f"{name}: n = {n:,}, {kind}", fontsize=10)
-    fig.subplots_adjust(left=0.02, right=0.98, bottom=0.02, top=1 - 0.6 / (3.1 * nrow), wspace=0.08,
-                        hspace=0.12 / nrow + 0.1)
-    return _save(fig, Path(stem))
-
-
-def plot_relative(stem, rows, key: str = "nnz_factor", baseline: str = "rcm") -> list[Path]:
-    """``row[key]`` divided by the baseline method's value: one line per matrix, one marker per method
-    (log axis), so that the figure grows with the suite only in height."""
-    matrices, methods = _matrices(rows), _methods(rows)
-    if baseline not in methods:
-        baseline = methods[0]
-    vals = metric_table(rows, matrices, methods, key)
-    base = vals[:, methods.index(baseline)][:, None]
-    with np.errstate(divide="ignore", invalid="ignore"):
-        rel = vals / base
-    fig = _figure((8.0, 1.3 + 0.26 * len(matrices)))
-    ax = fig.subplots()
-    y = np.arange(len(matrices))
-    markers = "os^Dv<>pXh*"
-    for j, s in enumerate(methods):
-        good = np.isfinite(rel[:, j]) & (rel[:, j] > 0)
-        ax.plot(rel[good, j], y[good], markers[j % len(markers)], ms=5, alpha=0.85, label=s, ls="none")
-    ax.axvline(1.0, color="k", lw=0.8)
-    ax.set_xscale("log")
-    ax.set_yticks(y)
-    ax.set_yticklabels(matrices, fontsize=7)
-    ax.set_ylim(len(matrices) - 0.5, -0.5)
-    ax.grid(axis="x", alpha=0.3)
-    ax.set_xlabel(f"{_LABELS.get(key, key)} / {_LABELS.get(key, key)} of {baseline} (left of 1 is better)")
-    ax.set_title(f"{_LABELS.get(key, key)} relative to {baseline}", fontsize=10)
-    ax.legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0), borderaxespad=0)
-    fig.subplots_adjust(left=0.3, right=0.82, top=1 - 0.45 / (1.3 + 0.26 * len(matrices)),
-                        bottom=0.55 / (1.3 + 0.26 * len(matrices)))
-    return _save(fig, Path(stem))
-
-
-def profile_problems(rows) -> list[str]:
-    """The matrices on which every method has a row (ran, successfully or not): the problem set of a
-    performance profile, so that a case left out on purpose does not count as a failure."""
-    methods = _methods(rows)
-    ran = {(r["matrix"], r["method"]) for r in rows}
-    return [m for m in _matrices(rows) if all((m, s) in ran for s in methods)]
-
-
-def plot_profiles(stem, rows, keys=("nnz_factor", "factor_ops", "order_seconds")) -> list[Path]:
-    """Dolan–Moré performance profiles, one panel per measure (log2 τ axis).
-
-    The problems are the matrices on which every method was run (a case left out on purpose is not a
-    failure); a case that ran and failed counts as not solved.
-    """
-    every, methods = _matrices(rows), _methods(rows)
-    matrices = profile_problems(rows)
-    fig = _figure((4.2 * len(keys), 3.6))
-    axes = fig.subplots(1, len(keys), squeeze=False)
-    for ax, key in zip(axes[0], keys):
-        vals = metric_table(rows, matrices, methods, key)
-        if key.endswith("_seconds"):
-            vals = np.maximum(vals, 1e-6)  # clock resolution: a zero time would make every ratio infinite
-        taus = profile_breakpoints(vals)
-        tmax = max(2.0, float(taus[-1]) * 1.1)
-        taus = np.concatenate([taus, [tmax]])
-        rho = performance_profile(vals, taus)
-        for j, s in enumerate(methods):
-            ax.step(taus, rho[:, j], where="post", label=s)
-        ax.set_xscale("log", base=2)
-        ax.set_xlim(1.0, tmax)
-        ax.set_ylim(0, 1.02)
-        ax.set_xlabel("τ (within a factor τ of the best)")
-        ax.set_ylabel("fraction of matrices")
-        ax.set_title(_LABELS.get(key, key), fontsize=10)
-        ax.grid(alpha=0.3)
-    axes[0][0].legend(fontsize=7, loc="lower right")
-    scope = "" if len(matrices) == len(every) else f", over the {len(matrices)} of {len(every)} matrices every ordering ran on"
-    fig.suptitle(f"Performance profiles (Dolan & Moré 2002){scope}", fontsize=10)
-    fig.tight_layout()
-    return _save(fig, Path(stem))
 
 
 # --------------------------------------------------------------------------------------------------
@@ -581,10 +426,34 @@ body{font-family:system-ui,sans-serif;margin:2em;max-width:1200px;color:#222}
 table{border-collapse:collapse;margin:0.5em 0 1.5em;font-size:0.85em}
 th,td{border:1px solid #ccc;padding:3px 8px;text-align:right}
 th:first-child,td:first-child{text-align:left}
-td.best{background:#d8f0d8;font-weight:bold} td.err{color:#b00}
+td.best{background:#d8f0d8;font-weight:bold} td.err{color:#b00;text-align:left;font-size:0.9em}
+td.skip{color:#777;text-align:left;font-size:0.9em;max-width:16em}
+td.ref{color:#666}
 img{max-width:100%;border:1px solid #eee;margin:0.3em 0}
-.note{color:#555;font-size:0.9em}
+.note{color:#555;font-size:0.9em;max-width:60em}
 """
+
+#: Longest reason written into a table cell (the full text is in the cell's tooltip and the notes).
+_CELL_REASON = 90
+
+
+def _short(text, limit: int = _CELL_REASON) -> str:
+    text = " ".join(str(text or "").split())
+    return text if len(text) <= limit else text[: limit - 1].rsplit(" ", 1)[0] + " …"
+
+
+def _html_cell(r, text: str, cls: str = "") -> str:
+    """A table cell for row ``r``: ``text`` if it ran, else why not, in the cell itself."""
+    e = html.escape
+    if r is None:
+        return '<td class="skip">not run</td>'
+    if r.get("status") == "skipped":
+        why = str(r.get("error") or "left out")
+        return f'<td class="skip" title="{e(why)}">skipped: {e(_short(why))}</td>'
+    if not _ok(r):
+        why = str(r.get("error") or "unknown error")
+        return f'<td class="err" title="{e(why)}">error: {e(_short(why))}</td>'
+    return f"<td{f' class={chr(34)}{cls}{chr(34)}' if cls else ''}>{text}</td>"
 
 
 def _html_metric(rows, matrices, methods, key, mark_best=True) -> str:
@@ -595,16 +464,54 @@ def _html_metric(rows, matrices, methods, key, mark_best=True) -> str:
         cells = []
         for s in methods:
             r = idx.get((m, s))
-            if r is None:
-                cells.append("<td></td>")
-            elif not _ok(r):
-                cells.append(f'<td class="err" title="{html.escape(str(r.get("error") or ""))}">error</td>')
-            else:
-                cls = ' class="best"' if s in best.get(m, []) else ""
-                cells.append(f"<td{cls}>{html.escape(_fmt(r.get(key), key))}</td>")
+            cls = "best" if s in best.get(m, []) else ("ref" if s in REFERENCES else "")
+            cells.append(_html_cell(r, html.escape(_fmt((r or {}).get(key), key)), cls))
         h.append(f"<tr><td>{html.escape(m)}</td>{''.join(cells)}</tr>")
     h.append("</table>")
     return "\n".join(h)
+
+
+#: Why SuperLU's count may differ from the exact symbolic one (shown with the factorization table).
+SUPERLU_NOTE = ("SuperLU's nnz(L) can differ from the exact symbolic count of the nnz(L) table: it stores "
+                "relaxed supernodes (neighbouring columns merged, with explicit zeros inside, dropped here "
+                "before counting, together with entries that cancel numerically), and a solver that pivots "
+                "for stability changes the structure; without pivoting on an M-matrix the two counts agree.")
+
+
+def _html_factor_table(rows, matrices, methods) -> list[str]:
+    """The factorization section: one row per matrix, one column per method (SuperLU nnz(L), time)."""
+    e = html.escape
+    idx = {(r["matrix"], r["method"]): r for r in rows}
+    out = ["<h2>Factorization</h2>",
+           "<p class='note'>SciPy SuperLU in natural order on the reordered matrix, without pivoting: nnz(L) and "
+           "seconds per ordering. Where a matrix is not symmetric positive definite, the M-matrix with the same "
+           f"pattern (off-diagonals −1, diagonal = degree + 1) was factored (column <i>factored</i>). "
+           f"{e(SUPERLU_NOTE)}</p>",
+           "<table><tr><th>matrix</th><th>n</th><th>factored</th>"
+           + "".join(f"<th>{e(s)}</th>" for s in methods) + "</tr>"]
+    for m in matrices:
+        mrows = [idx[(m, s)] for s in methods if (m, s) in idx]
+        kinds = sorted({str(r.get("factor_matrix")) for r in mrows if r.get("factor_matrix")})
+        n = next((r.get("n") for r in mrows if r.get("n") is not None), None)
+        cells = []
+        for s in methods:
+            r = idx.get((m, s))
+            if r is None or not _ok(r):
+                cells.append(_html_cell(r, ""))
+                continue
+            status, msg = r.get("factor_status"), str(r.get("factor_message") or "")
+            if status != "ok":
+                why = msg or status or "not factored"
+                cells.append(f'<td class="skip" title="{e(why)}">{e(_short(why))}</td>')
+                continue
+            text = f"{e(_compact(r.get('factor_nnz_l')))}<br>{e(_fmt(r.get('factor_seconds'), '_seconds'))} s"
+            if r.get("factor_nnz_l") is not None and r.get("nnz_factor") and r["factor_nnz_l"] != r["nnz_factor"]:
+                text += f"<br><small>symbolic {e(_compact(r['nnz_factor']))}</small>"
+            cells.append(f"<td>{text}</td>")
+        out.append(f"<tr><td>{e(m)}</td><td>{e(_fmt(n))}</td><td>{e(', '.join(kinds) or '–')}</td>"
+                   f"{''.join(cells)}</tr>")
+    out.append("</table>")
+    return out
 
 
 def _img(path: Path, alt: str) -> str:
@@ -632,13 +539,15 @@ def write_html(path, rows, *, plots: dict | None = None, notes=(), meta=None, li
     meta = meta or {}
     matrices, methods = _matrices(rows), _methods(rows)
     ok = sum(1 for r in rows if _ok(r))
+    skipped = sum(1 for r in rows if r.get("status") == "skipped")
     e = html.escape
     parts = [
         "<!DOCTYPE html><html><head><meta charset='utf-8'><title>Ordering comparison</title>",
         f"<style>{_CSS}</style></head><body>",
         "<h1>Ordering comparison</h1>",
         f"<p>{len(matrices)} matrices × {len(methods)} orderings ({e(', '.join(methods))}), seed "
-        f"{e(str(meta.get('seed', 0)))}: {ok} cases ok, {len(rows) - ok} failed. "
+        f"{e(str(meta.get('seed', 0)))}: {ok} cases ok, {len(rows) - ok - skipped} failed"
+        + (f", {skipped} skipped" if skipped else "") + ". "
         "Best value per matrix is shaded. nnz(L) counts the Cholesky factor with its diagonal; "
         "operations are Σ c<sub>j</sub>² over the column counts of L.</p>",
     ]
@@ -652,39 +561,32 @@ def write_html(path, rows, *, plots: dict | None = None, notes=(), meta=None, li
         parts.append("<h2>Performance profiles</h2>")
         parts.append("<p class='note'>ρ(τ) = fraction of matrices on which an ordering is within a factor τ "
                      "of the best ordering for that matrix (Dolan &amp; Moré, Math. Programming 91, 2002). "
-                     "Failures never count.</p>")
+                     "Failures never count. The file order (natural) is a reference, not a competitor: it is "
+                     "left out here and in the relative plots, and stays in the tables.</p>")
         parts.append(_img(plots["profiles"], "performance profiles"))
     for key, label in (("relative_nnz", "nnz(L) relative to the baseline"),
                        ("relative_ops", "operations relative to the baseline")):
         if plots.get(key):
             parts.append(f"<h2>{e(label)}</h2>")
             parts.append(_img(plots[key], label))
-    for key, mark in (("order_seconds", False), ("bandwidth", True), ("profile", True), ("etree_height", True)):
-        parts.append(f"<h2>{e(_LABELS[key])}</h2>")
-        parts.append(_html_metric(rows, matrices, methods, key, mark))
-    frows = [r for r in rows if r.get("factor_status")]
-    if frows:
-        parts.append("<h2>Factorization</h2><p class='note'>SciPy SuperLU in natural order on the reordered "
-                     "matrix, without pivoting. Where the matrix is not symmetric positive definite, the "
-                     "M-matrix with the same pattern (off-diagonals −1, diagonal = degree + 1) was factored, "
-                     "as the column <i>factored</i> says.</p>")
-        parts.append("<table><tr><th>matrix</th><th>method</th><th>status</th><th>factored</th><th>nnz(L)</th>"
-                     "<th>storage MB</th><th>seconds</th><th>note</th></tr>")
-        for r in frows:
-            parts.append(
-                f"<tr><td>{e(r['matrix'])}</td><td>{e(r['method'])}</td><td>{e(str(r['factor_status']))}</td>"
-                f"<td>{e(str(r.get('factor_matrix') or '–'))}</td><td>{e(_fmt(r.get('factor_nnz_l')))}</td>"
-                f"<td>{e(_fmt(r.get('factor_mb'), '_mb'))}</td><td>{e(_fmt(r.get('factor_seconds'), '_seconds'))}</td>"
-                f"<td>{e(str(r.get('factor_message') or ''))}</td></tr>"
-            )
-        parts.append("</table>")
     spy = plots.get("spy") or {}
     if spy:
-        parts.append("<h2>Spy plots</h2>")
+        parts.append("<h2>Spy plots: A and its Cholesky factor L</h2>")
+        parts.append("<p class='note'>For each ordering, the reordered matrix A[p][:, p] and, on the same axes, "
+                     "the lower triangle of its Cholesky factor L: entries of A in blue, fill in orange. "
+                     "The fill is what the ordering is for: less orange, less memory and work.</p>")
         for m, p in spy.items():
             parts.append(f"<h3>{e(m)}</h3>")
-            parts.append(_img(p, f"spy plots of {m}"))
-    failed = [r for r in rows if not _ok(r)]
+            parts.append(_img(p, f"spy plots of A and L for {m}"))
+    for key, mark in (("order_seconds", False), ("bandwidth", True), ("profile", True), ("etree_height", True)):
+        parts.append(f"<h2>{e(_LABELS[key])}</h2>")
+        if key == "order_seconds":
+            parts.append("<p class='note'>Measured after the kernels were compiled and loaded in the process "
+                         "(compilation is never ordering time).</p>")
+        parts.append(_html_metric(rows, matrices, methods, key, mark))
+    if any(r.get("factor_status") for r in rows):
+        parts += _html_factor_table(rows, matrices, methods)
+    failed = [r for r in rows if r.get("status") == "error"]
     if failed:
         parts.append("<h2>Failures</h2><ul>")
         parts += [f"<li>{e(r['matrix'])} / {e(r['method'])}: {e(str(r.get('error') or ''))}</li>" for r in failed]
