@@ -18,6 +18,13 @@ line can list methods and print help without loading SciPy or the compiled kerne
 from __future__ import annotations
 
 import importlib
+import os as _os
+import sys as _sys
+
+if _sys.argv and _os.path.basename(_sys.argv[0] or "") in ("reorder", "reorder.exe"):  # the console script
+    from ._startup import guard as _guard
+
+    _guard()
 
 __version__ = "0.1.0"
 

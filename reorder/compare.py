@@ -465,6 +465,47 @@ def _mp_context():
     return mp.get_context("forkserver" if "forkserver" in methods else "spawn")
 
 
+def _proc_identity(pid: int):
+    """``(state, start time)`` of a process from /proc, or None if it is gone (or no /proc)."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii", errors="replace") as fh:
+            fields = fh.read().rsplit(")", 1)[1].split()
+        return fields[0], fields[19]
+    except (OSError, IndexError):
+        return None
+
+
+def _parent_alive(pid: int, start) -> bool:
+    if start is not None:
+        ident = _proc_identity(pid)
+        return ident is not None and ident[0] not in ("Z", "X") and ident[1] == start
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def _watch_parent(pid: int, period: float = 0.5) -> None:
+    """Worker initializer: end this worker as soon as the compare process ``pid`` is gone.
+
+    A pool worker's own parent is the fork server, not the compare process, so the operating
+    system's parent-death signal cannot be used; the worker polls instead (by /proc identity, so a
+    reused process id is not mistaken for the parent). Without this, a ``kill -9`` of compare left
+    its workers (about 200 MB each) running."""
+    ident = _proc_identity(pid)
+    start = ident[1] if ident is not None else None
+
+    def poll():
+        while _parent_alive(pid, start):
+            time.sleep(period)
+        os._exit(1)
+
+    threading.Thread(target=poll, name="reorder-parent-watch", daemon=True).start()
+
+
 def _run_processes(cases, workers: int, on_result):
     """Cases in a pool of local processes. If a worker dies (killed for memory, a crash), the cases
     it left unfinished are rerun one at a time so that only the culprit is recorded as failed."""
@@ -473,7 +514,8 @@ def _run_processes(cases, workers: int, on_result):
 
     ctx = _mp_context()
     unfinished: list = []
-    ex = ProcessPoolExecutor(max_workers=workers, mp_context=ctx)
+    watch = dict(initializer=_watch_parent, initargs=(os.getpid(),))
+    ex = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, **watch)
     try:
         futs = {ex.submit(run_case, c): (i, c) for i, c in enumerate(cases)}
         for f in as_completed(futs):
@@ -494,7 +536,7 @@ def _run_processes(cases, workers: int, on_result):
     single = None
     try:
         for c in unfinished:
-            single = single or ProcessPoolExecutor(max_workers=1, mp_context=ctx)
+            single = single or ProcessPoolExecutor(max_workers=1, mp_context=ctx, **watch)
             try:
                 rec = single.submit(run_case, c).result()
             except BrokenProcessPool:

@@ -5,6 +5,7 @@ Every error a user can cause ends in one line on stderr and exit code 2; no trac
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import sys
@@ -42,7 +43,9 @@ class _Fail(Exception):
 
 
 def _err(msg: str) -> None:
-    msg = " ".join(str(msg).split())
+    from ..errors import printable
+
+    msg = printable(msg)
     typer.echo(f"reorder: error: {msg}", err=True)
 
 
@@ -141,6 +144,10 @@ def _write_json(path: Path, payload) -> None:
 @app.callback(invoke_without_command=True)
 def _root(
     version: bool = typer.Option(False, "--version", help="Print the version and exit."),
+    max_memory: Optional[str] = typer.Option(
+        None, "--max-memory", metavar="SIZE",
+        help="Memory budget for a matrix (e.g. 8G), instead of the memory available now; also lifts the "
+             "refusal of implausibly sparse sizes. Accepted anywhere on the command line."),
 ):
     if version:
         typer.echo(f"reorder {__version__}")
@@ -148,12 +155,111 @@ def _root(
 
 
 
+def _check_outputs(matrix, *outputs) -> None:
+    """Before any work: no output may be the input matrix, and every output must be writable
+    (folder exists and is writable; ``-`` is standard output; devices and FIFOs are written
+    through). Raises InputError."""
+    from ..io import check_outputs
+
+    for out in outputs:
+        if out is not None and str(out) != "-" and _same_file(matrix, out):
+            raise InputError("refusing to overwrite the input matrix", str(out))
+    check_outputs(*outputs)
+
+
+def _to_stdout(path) -> bool:
+    """True when ``path`` sends a command's data to standard output (``-``): the command's own
+    summary then goes to standard error, so the pipe carries only the data."""
+    return path is not None and str(path) == "-"
+
+
+def _is_regular_output(path) -> bool:
+    """True when ``path`` is (or will be) a regular file, so it can be read back after writing."""
+    from ..io.paths import resolve_output
+
+    return resolve_output(path)[0] == "regular"
+
+
+#: Largest separator-tree JSON file read by ``stats --tree``.
+MAX_TREE_BYTES = 256 << 20
+
+
+def _read_tree(path: Path):
+    """A separator tree written by ``order --tree``: a JSON object, size- and depth-bounded."""
+    from ..io.guard import open_input
+
+    fh, source = open_input(path, what="separator-tree JSON")
+    with fh:
+        data = fh.read(MAX_TREE_BYTES + 1)
+    if len(data) > MAX_TREE_BYTES:
+        raise InputError(f"larger than {MAX_TREE_BYTES >> 20} MiB", source)
+    try:
+        obj = json.loads(data.decode("utf-8"))
+    except RecursionError:
+        raise InputError("not a separator-tree JSON file (nested too deeply)", source) from None
+    except (ValueError, UnicodeError) as exc:
+        raise InputError(f"not a separator-tree JSON file ({exc.__class__.__name__})", source) from None
+    if not isinstance(obj, dict):
+        raise InputError(f"not a separator-tree JSON file (top level is {type(obj).__name__}, not an object)",
+                         source)
+    return obj
+
+
+_MAX_MEMORY_FLAG = "--max-memory"
+
+
+def _lift_max_memory(args: list[str]) -> list[str]:
+    """Take ``--max-memory SIZE`` (or ``--max-memory=SIZE``) from anywhere before ``--`` and
+    publish it as ``REORDER_MAX_MEMORY``, which the readers (and compare's workers) obey."""
+    from ..io.guard import _ENV, parse_size
+
+    out, i = [], 0
+    while i < len(args):
+        a = args[i]
+        if a == "--":
+            out.extend(args[i:])
+            break
+        if a == _MAX_MEMORY_FLAG or a.startswith(_MAX_MEMORY_FLAG + "="):
+            if "=" in a:
+                value = a.split("=", 1)[1]
+            elif i + 1 < len(args):
+                value, i = args[i + 1], i + 1
+            else:
+                raise InputError("--max-memory needs a size such as 8G")
+            os.environ[_ENV] = str(parse_size(value))
+        else:
+            out.append(a)
+        i += 1
+    return out
+
+
+def _quiet_stdout() -> None:
+    """After a broken pipe, point stdout at /dev/null so the interpreter's final flush is silent."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):
+        pass
+
+
 # ------------------------------------------------------------------------------------------------
 def main(argv: list[str] | None = None) -> int:
-    """Entry point of the ``reorder`` command; returns (and exits with) the exit code."""
-    args = sys.argv[1:] if argv is None else list(argv)
+    """Entry point of the ``reorder`` command; returns (and exits with) the exit code.
+
+    Exit codes: 0 success, 2 a user error (one line on stderr, never a traceback; permission
+    denied and disk full included), 130 interrupted (SIGINT), 143 terminated (SIGTERM while an
+    output was being written; its temporary file is removed), 1 out of memory.
+    """
+    import signal
+
+    from ..errors import Terminated
+
     code = 0
     try:
+        with contextlib.suppress(ValueError, OSError):  # ordinary Ctrl-C from here on (see _startup)
+            signal.signal(signal.SIGINT, signal.default_int_handler)
+        args = sys.argv[1:] if argv is None else list(argv)
+        args = _lift_max_memory(args)
         rv = app(args=args, prog_name="reorder", standalone_mode=False)
         code = rv if isinstance(rv, int) else 0
     except InputError as exc:
@@ -172,6 +278,9 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         _err("interrupted")
         code = 130
+    except Terminated:
+        _err("terminated")
+        code = 143
     except MemoryError:
         _err("out of memory (try a smaller problem or a cheaper method)")
         code = 1
@@ -179,7 +288,16 @@ def main(argv: list[str] | None = None) -> int:
         _err(str(exc))
         code = 2
     except BrokenPipeError:
+        _quiet_stdout()
         code = 0
+    except RecursionError:
+        _err("input nested too deeply")
+        code = 2
+    except OSError as exc:  # permission denied, disk full, ... somewhere outside the io gate
+        from ..io.paths import _os_message
+
+        _err(f"{exc.filename}: {_os_message(exc)}" if exc.filename else _os_message(exc))
+        code = 2
     except SystemExit as exc:  # typer.Exit inside standalone_mode=False surfaces here on some versions
         code = exc.code if isinstance(exc.code, int) else 0
     except Exception as exc:
@@ -193,4 +311,3 @@ def main(argv: list[str] | None = None) -> int:
     if argv is None:
         sys.exit(code)
     return code
-

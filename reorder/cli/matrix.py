@@ -9,7 +9,7 @@ import typer
 
 from .. import __version__
 from ..errors import InputError
-from ._app import _load, _same_file, app
+from ._app import _check_outputs, _load, _to_stdout, app
 
 
 # ------------------------------------------------------------------------------------------------
@@ -32,8 +32,7 @@ def apply_cmd(
     """
     from ..io import read_permutation, write_matrix
 
-    if _same_file(matrix, output):
-        raise InputError("refusing to overwrite the input matrix", str(output))
+    _check_outputs(matrix, output)  # before any work
     if base is not None and base not in (0, 1):
         raise InputError(f"--base must be 0 or 1, not {base}")
     A = _load(matrix, drop_zeros)
@@ -41,6 +40,6 @@ def apply_cmd(
     B = A[p][:, p]
     write_matrix(output, B, comment=f"reorder {__version__}: {matrix.name} permuted by {perm.name}",
                  symmetric=False if both_triangles else None)
-    typer.echo(f"wrote {output} ({B.shape[0]} rows, {B.nnz} entries)")
+    typer.echo(f"wrote {output} ({B.shape[0]} rows, {B.nnz} entries)", err=_to_stdout(output))
 
 

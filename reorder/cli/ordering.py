@@ -10,7 +10,8 @@ import typer
 
 from .. import __version__
 from ..errors import InputError
-from ._app import METHOD_HELP, _check_method, _compiled, _fmt, _graph, _jsonable, _load, _same_file, _write_json, app
+from ._app import (METHOD_HELP, _check_method, _check_outputs, _compiled, _fmt, _graph, _is_regular_output, _jsonable,
+                   _load, _read_tree, _to_stdout, _write_json, app)
 from ._options import setting_options, with_setting_flags
 
 
@@ -50,25 +51,28 @@ def order_cmd(
     name = _check_method(method)
     opts = setting_options(order_cmd, name, flags, sets)
     _, record = resolve(name, opts)  # every option checked before the matrix is read
-    for out in (output, labels, tree):
-        if out is not None and _same_file(matrix, out):
-            raise InputError("refusing to overwrite the input matrix", str(out))
-        if out is not None and not (out.parent if str(out.parent) else Path(".")).is_dir():
-            raise InputError("output folder does not exist", str(out.parent))
+    _check_outputs(matrix, output, labels, tree)  # every output writable before any work
     A = _load(matrix, drop_zeros)
+    parts = getattr(record, "parts", None)
+    if isinstance(parts, int) and parts > max(A.shape[0], 1):
+        raise InputError(f"--parts {parts} exceeds the {A.shape[0]} rows of the matrix")
     g = _graph(A, getattr(record, "weights", "pattern"))
     _compiled(name)
     result = order(g, name, seed=seed, **opts)
+    lab = result.info.get("labels")
+    t = result.info.get("separator_tree")
+    if labels is not None and lab is None:  # checked before anything is written
+        raise InputError(f"method '{name}' produces no part labels (use --method rsb)")
+    if tree is not None and t is None:
+        raise InputError(f"method '{name}' produces no separator tree (use --method nd)")
     direction = "old-to-new" if inverse else "new-to-old"
     write_permutation(output, result.perm, base=base, direction=direction, method=name, seed=seed,
                       matrix=matrix.name)
-    back = read_permutation(output, g.n, base=base, direction=direction)  # verify what was written
-    if not (back == result.perm).all():  # pragma: no cover - would be a bug
-        raise RuntimeError("permutation file verification failed")
+    if _is_regular_output(output):
+        back = read_permutation(output, g.n, base=base, direction=direction)  # verify what was written
+        if not (back == result.perm).all():  # pragma: no cover - would be a bug
+            raise RuntimeError("permutation file verification failed")
     if labels is not None:
-        lab = result.info.get("labels")
-        if lab is None:
-            raise InputError(f"method '{name}' produces no part labels (use --method rsb)")
         from ..io import atomic_path
 
         with atomic_path(labels) as tmp:
@@ -79,9 +83,6 @@ def order_cmd(
                 encoding="utf-8",
             )
     if tree is not None:
-        t = result.info.get("separator_tree")
-        if t is None:
-            raise InputError(f"method '{name}' produces no separator tree (use --method nd)")
         _write_json(tree, _jsonable(t))
     sym = symbolic_factor(g, result.perm)
     summary = {
@@ -98,11 +99,11 @@ def order_cmd(
         "info": _jsonable({k: v for k, v in result.info.items() if k not in ("labels", "separator_tree")}),
     }
     if info_json:
-        typer.echo(json.dumps(summary))
+        typer.echo(json.dumps(summary), err=_to_stdout(output))
     else:
         typer.echo(
             f"{matrix.name}: {name} ordering of n={g.n} in {result.seconds:.3f} s, "
-            f"nnz(L)={sym.nnz_factor}, ops={sym.factor_ops:.4g} -> {output}"
+            f"nnz(L)={sym.nnz_factor}, ops={sym.factor_ops:.4g} -> {output}", err=_to_stdout(output)
         )
 
 
@@ -179,12 +180,7 @@ def stats_cmd(
         p, ordering, order_seconds = res.perm, method, res.seconds
         tree_obj = res.info.get("separator_tree")
     if tree is not None:
-        if not tree.exists():
-            raise InputError("no such file", str(tree))
-        try:
-            tree_obj = json.loads(tree.read_text(encoding="utf-8"))
-        except (OSError, ValueError) as exc:
-            raise InputError(f"not a separator-tree JSON file ({exc.__class__.__name__})", str(tree)) from None
+        tree_obj = _read_tree(tree)
     t0 = time.perf_counter()
     s = analyse(A, p, graph=g)
     d = s.to_dict()

@@ -8,6 +8,7 @@ from typing import List, Optional
 import typer
 
 from ..errors import InputError
+from ..io.paths import check_output_folder
 from ._app import _check_method, app
 
 
@@ -92,6 +93,7 @@ def compare_cmd(
         _check_method(m)
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
+    check_output_folder(out_alias or output)
     _compare.run_compare(
         inputs, methods=names, out=out_alias or output, workers=workers, resume=resume, factor=factor,
         cluster=cluster, seed=seed, progress=True, plots=plots, factor_max_ops=factor_max_ops,
@@ -111,4 +113,5 @@ def demo_cmd(
 
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
+    check_output_folder(out_alias or output)
     _demo.run_demo(out=out_alias or output, workers=workers, resume=resume)

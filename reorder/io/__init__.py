@@ -7,10 +7,12 @@ they write a temporary file beside the target and rename it.
 """
 
 from ..permutation import check_permutation
-from .paths import atomic_path
+from .paths import STDIO, atomic_path, check_output_folder, check_outputs, is_stdio
 from .permfile import (DIRECTIONS, PermutationFile, permutation_header, read_permutation, read_permutation_file,
                        write_permutation)
-from .readers import MAX_DIMENSION, MAX_ENTRIES, available_memory, estimate_bytes, matrix_name, read_matrix
+from .guard import parse_size
+from .readers import (MAX_DIMENSION, MAX_ENTRIES, _mm_header, available_memory, estimate_bytes, matrix_name,
+                      read_matrix)
 from .writers import write_matrix
 
 __all__ = [
@@ -23,6 +25,11 @@ __all__ = [
     "PermutationFile",
     "DIRECTIONS",
     "atomic_path",
+    "check_outputs",
+    "check_output_folder",
+    "is_stdio",
+    "STDIO",
+    "parse_size",
     "check_permutation",
     "MAX_DIMENSION",
     "MAX_ENTRIES",

@@ -15,7 +15,7 @@ import scipy.io
 import scipy.sparse as sp
 
 from ..errors import InputError
-from .paths import atomic_path
+from .paths import atomic_path, is_stdio
 
 #: File endings :func:`write_matrix` knows.
 HB_WRITE_SUFFIXES = (".rua", ".rsa", ".rb", ".hb")
@@ -65,7 +65,7 @@ def write_matrix(path, matrix, *, comment: str = "", symmetric: bool | None = No
     if name.endswith(".npz"):
         with atomic_path(path, suffix=".npz") as tmp:
             sp.save_npz(tmp, mat, compressed=True)
-    elif name.endswith((".mtx", ".mtx.gz", ".mm", ".mm.gz")):
+    elif name.endswith((".mtx", ".mtx.gz", ".mm", ".mm.gz")) or is_stdio(path):
         with atomic_path(path) as tmp:
             buf = _io.BytesIO()
             scipy.io.mmwrite(buf, sp.coo_matrix(mat), comment=comment, symmetry="symmetric" if sym else "general")
