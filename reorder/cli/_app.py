@@ -211,6 +211,8 @@ _MAX_MEMORY_FLAG = "--max-memory"
 def _lift_max_memory(args: list[str]) -> list[str]:
     """Take ``--max-memory SIZE`` (or ``--max-memory=SIZE``) from anywhere before ``--`` and
     publish it as ``REORDER_MAX_MEMORY``, which the readers (and compare's workers) obey."""
+    if not any(a == _MAX_MEMORY_FLAG or a.startswith(_MAX_MEMORY_FLAG + "=") for a in args):
+        return args  # (no import: `reorder methods` and --help stay free of the numerical stack)
     from ..io.guard import _ENV, parse_size
 
     out, i = [], 0
@@ -262,6 +264,8 @@ def main(argv: list[str] | None = None) -> int:
         args = _lift_max_memory(args)
         rv = app(args=args, prog_name="reorder", standalone_mode=False)
         code = rv if isinstance(rv, int) else 0
+        if code == 130:  # typer turns Ctrl-C inside a command into a returned 130, silently
+            _err("interrupted")
     except InputError as exc:
         _err(str(exc))
         code = 2
@@ -303,6 +307,8 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:
         if getattr(exc, "exit_code", None) is not None and exc.__class__.__name__ in ("Exit", "Abort"):
             code = int(exc.exit_code)
+            if isinstance(exc.__cause__, KeyboardInterrupt):  # typer turns Ctrl-C into Exit(130)
+                _err("interrupted")
         elif exc.__class__.__name__ == "Abort":
             _err("aborted")
             code = 130

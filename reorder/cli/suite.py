@@ -8,7 +8,6 @@ from typing import List, Optional
 import typer
 
 from ..errors import InputError
-from ..io.paths import check_output_folder
 from ._app import _check_method, app
 
 
@@ -93,6 +92,8 @@ def compare_cmd(
         _check_method(m)
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
+    from ..io.paths import check_output_folder
+
     check_output_folder(out_alias or output)
     _compare.run_compare(
         inputs, methods=names, out=out_alias or output, workers=workers, resume=resume, factor=factor,
@@ -113,5 +114,7 @@ def demo_cmd(
 
     if workers < 1:
         raise InputError(f"--workers must be at least 1, not {workers}")
+    from ..io.paths import check_output_folder
+
     check_output_folder(out_alias or output)
     _demo.run_demo(out=out_alias or output, workers=workers, resume=resume)
