@@ -11,6 +11,7 @@ import os
 import sys
 import warnings
 from pathlib import Path
+from typing import Optional
 
 import typer
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import contextlib
 import gzip
+import io as _io
 import os
 import re
 import sys
@@ -136,7 +137,8 @@ def _read_mm(path, *, max_memory=None):
     with _mm_stream(path, max_memory=max_memory) as ((fmt, field, symmetry, n, entries, _, _), body):
         source = body.source
         try:
-            mat = scipy.io.mmread(body)
+            # the parser asks for about 1 KiB at a time; check in 1 MiB chunks behind a buffer
+            mat = scipy.io.mmread(_io.BufferedReader(body, buffer_size=1 << 20))
         except InputError:
             raise
         except (MemoryError, KeyboardInterrupt):
