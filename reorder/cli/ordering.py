@@ -53,7 +53,7 @@ def order_cmd(
     _, record = resolve(name, opts)  # every option checked before the matrix is read
     _check_outputs(matrix, output, labels, tree)  # every output writable before any work
     A = _load(matrix, drop_zeros)
-    parts = getattr(record, "parts", None)
+    parts = opts.get("parts") if isinstance(opts, dict) else None  # given by the user (the default adapts)
     if isinstance(parts, int) and parts > max(A.shape[0], 1):
         raise InputError(f"--parts {parts} exceeds the {A.shape[0]} rows of the matrix")
     g = _graph(A, getattr(record, "weights", "pattern"))

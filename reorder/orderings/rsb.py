@@ -55,7 +55,7 @@ def recursive_spectral_bisection(graph: Graph, s: RsbSettings, seed: int = 0):
     H. D. Simon, Computing Systems in Engineering 2 (1991) 135–148; Pothen, Simon & Liou (1990).
     """
     n = graph.n
-    parts, within = max(1, int(s.parts)), s.within
+    parts, within = max(1, min(int(s.parts), n)), s.within  # capped by n: labels and part sizes stay O(n)
     labels = np.zeros(n, dtype=np.int64)
     local = np.full(n, -1, dtype=np.int64)
     stack = [(np.arange(n, dtype=np.int64), parts, 0)]
