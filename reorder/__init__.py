@@ -35,6 +35,8 @@ _EXPORTS = {
     "bandwidth_profile": "analysis",
     "symbolic_factor": "analysis",
     "InputError": "errors",
+    "OrderedFactor": "factor",
+    "solve_sequence": "sequence",
     "Graph": "graph",
     "components": "graph",
     "from_matrix": "graph",

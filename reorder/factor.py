@@ -58,6 +58,28 @@ def _canonical(A, what: str = "matrix") -> sp.csr_matrix:
     return A
 
 
+def _order(graph, method: str, seed: int, factorizations, options: dict):
+    """(perm, seconds, info): ``auto`` is the cost-aware search priced by ``factorizations`` when the
+    escalation module is there and no option asks for the exhaustive portfolio; else the registry."""
+    from .orderings import order
+
+    if method == "auto" and not options:
+        try:
+            from .cost import machine_rates
+            from .orderings.escalation import escalate
+        except ImportError:  # pragma: no cover - an installation without the cost model
+            escalate = None
+        if escalate is not None:
+            rates = machine_rates()  # measured once per machine and cached; not ordering time
+            t0 = time.perf_counter()
+            perm, info = escalate(graph, factorizations=1.0 if factorizations is None else factorizations,
+                                  seed=seed, rates=rates)
+            seconds = time.perf_counter() - t0
+            return check_permutation(perm, graph.n), seconds, dict(info)
+    res = order(graph, method, seed=seed, **options)
+    return res.perm, res.seconds, dict(res.info)
+
+
 class OrderedFactor:
     """A sparse matrix ordered once and factored (and refactored) by SciPy's SuperLU in that order.
 
@@ -73,6 +95,11 @@ class OrderedFactor:
         A permutation to use instead (new position ``k`` holds old index ``perm[k]``).
     seed : int
         Seed of the ordering.
+    factorizations : float, optional
+        How many factorizations of this pattern will follow. With ``method="auto"`` the ordering is
+        the cost-aware search of :func:`reorder.orderings.escalation.escalate`, which pays for a
+        costlier ordering only while the predicted saving over that many factorizations exceeds its
+        cost (default 1: one factorization). Other methods ignore it.
     factor : bool
         Factor ``A`` now (default, unless ``A`` is a boolean pattern).
     refine : int
@@ -106,8 +133,8 @@ class OrderedFactor:
     True
     """
 
-    def __init__(self, A, method: str = "auto", *, perm=None, seed: int = 0, factor: bool | None = None,
-                 refine: int = 2, refine_tol: float = 1e-12, **options):
+    def __init__(self, A, method: str = "auto", *, perm=None, seed: int = 0, factorizations: float | None = None,
+                 factor: bool | None = None, refine: int = 2, refine_tol: float = 1e-12, **options):
         A = _canonical(A)
         self.n = A.shape[0]
         self._indptr, self._indices = A.indptr.copy(), A.indices.copy()
@@ -121,11 +148,8 @@ class OrderedFactor:
             self.order_seconds = time.perf_counter() - t0
             self.order_info: dict = {}
         else:
-            from .orderings import order
-
-            res = order(graph, method, seed=seed, **options)
-            self.perm, self.method, self.seed = res.perm, method, seed
-            self.order_seconds, self.order_info = res.seconds, dict(res.info)
+            self.perm, self.order_seconds, self.order_info = _order(graph, method, seed, factorizations, options)
+            self.method, self.seed = method, seed
         self.iperm = inverse_permutation(self.perm)
         t0 = time.perf_counter()
         self.symbolic = symbolic_factor(graph, self.perm)
@@ -300,7 +324,7 @@ class OrderedFactor:
     def report(self) -> dict:
         """What a user weighs: times, fill (measured and predicted), memory, pivoting, residuals.
 
-        Keys: ``n``, ``nnz``, ``method``, ``seed``, ``order_seconds``, ``symbolic_seconds``,
+        Keys: ``n``, ``nnz``, ``method``, ``chosen`` (the candidate the cost-aware ``auto`` kept), ``seed``, ``order_seconds``, ``symbolic_seconds``,
         ``factor_seconds`` (last), ``factorizations``, ``total_factor_seconds``, ``solve_seconds``
         (last), ``nnz_l`` (SuperLU's L), ``nnz_factors`` (SuperLU's L + U storage), ``factor_bytes``
         (that storage in bytes: values plus 4-byte indices), ``predicted_nnz_l`` (exact symbolic
@@ -317,7 +341,8 @@ class OrderedFactor:
         except Exception:  # the cost model is an optional extra, never a reason to fail
             pred = None
         return {
-            "n": self.n, "nnz": self.nnz, "method": self.method, "seed": self.seed,
+            "n": self.n, "nnz": self.nnz, "method": self.method, "chosen": self.order_info.get("chosen"),
+            "seed": self.seed,
             "order_seconds": self.order_seconds, "symbolic_seconds": self.symbolic_seconds,
             "factor_seconds": self.factor_seconds, "factorizations": self.factorizations,
             "total_factor_seconds": self.total_factor_seconds, "solve_seconds": self.solve_seconds,

@@ -52,7 +52,8 @@ def solve_sequence(matrices, method: str = "auto", *, perm=None, rhs=None, seed:
     matrices : iterable of sparse matrices or paths
         All with the pattern of the first; paths are read with :func:`reorder.io.read_matrix`.
     method : str
-        Ordering computed once on the first matrix (``perm`` overrides it).
+        Ordering computed once on the first matrix (``perm`` overrides it); ``auto`` prices its
+        search by the length of the sequence when that is known (a list).
     perm : array_like of int, optional
         New-to-old permutation to use instead of computing one.
     rhs : array_like, optional
@@ -83,6 +84,10 @@ def solve_sequence(matrices, method: str = "auto", *, perm=None, rhs=None, seed:
     """
     from scipy.sparse.linalg import spsolve
 
+    try:
+        count = len(matrices)
+    except TypeError:  # an iterator: its length is not known in advance
+        count = None
     rows: list[dict] = []
     F = None
     read_seconds = 0.0
@@ -98,7 +103,7 @@ def solve_sequence(matrices, method: str = "auto", *, perm=None, rhs=None, seed:
         read_seconds += time.perf_counter() - t0
         b, x_true = _rhs(A, rhs, seed + k)
         if F is None:
-            F = OrderedFactor(A, method, perm=perm, seed=seed, factor=False, **options)
+            F = OrderedFactor(A, method, perm=perm, seed=seed, factor=False, factorizations=count, **options)
         try:
             F.factor(A)
         except InputError as exc:
@@ -125,7 +130,7 @@ def solve_sequence(matrices, method: str = "auto", *, perm=None, rhs=None, seed:
     # the symbolic count made for the report is no part of the solving path
     total = F.order_seconds + sum(r["factor_seconds"] + r["solve_seconds"] for r in rows)
     out = {
-        "method": F.method, "n": F.n, "nnz": F.nnz, "count": len(rows), "order_seconds": F.order_seconds,
+        "method": F.method, "chosen": F.order_info.get("chosen"), "n": F.n, "nnz": F.nnz, "count": len(rows), "order_seconds": F.order_seconds,
         "total_seconds": total, "read_seconds": read_seconds, "rows": rows,
         "max_residual": max(r["residual"] for r in rows), "pivoting": any(r["pivoting"] for r in rows),
         "nnz_l": F.nnz_l, "predicted_nnz_l": F.symbolic.nnz_factor,

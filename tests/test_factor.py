@@ -235,3 +235,22 @@ def test_cli_permcheck_and_sweep(capsys, tmp_path):
     assert code == 2 and "pattern differs" in err and err.count("\n") == 1
     code, out, err = _cli(capsys, "sweep", str(tmp_path / "none_*.mtx"))
     assert code == 2 and "no file matches" in err
+
+
+def test_readme_section_is_executed():
+    # tests/test_readme.py runs every python block of the README; this one checks that the section on
+    # handing the ordering to a solver holds runnable blocks that exercise what it documents.
+    import re
+    from pathlib import Path
+
+    text = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+    start = text.index("## Handing the ordering to a solver")
+    section = text[start:text.index("\n## ", start + 3)]
+    blocks = re.findall(r"```python\n(.*?)```", section, flags=re.S)
+    assert len(blocks) >= 3
+    assert any('permc_spec="NATURAL"' in b and "x[p] =" in b for b in blocks)
+    assert any("OrderedFactor" in b and "refactor" in b for b in blocks)
+    assert any('direction="old-to-new"' in b and "base=1" in b for b in blocks)
+    import reorder
+
+    assert reorder.OrderedFactor.__name__ == "OrderedFactor" and callable(reorder.solve_sequence)

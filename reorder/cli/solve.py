@@ -105,7 +105,8 @@ def solve_cmd(
     F = _factor(A, method, p, seed, effort)
     x = F.solve(b)
     d = F.report()
-    d = {"matrix": str(matrix), "ordering": str(perm) if perm is not None else d["method"], **d}
+    ordering = str(perm) if perm is not None else d["method"] + (f" ({d['chosen']})" if d.get("chosen") else "")
+    d = {"matrix": str(matrix), "ordering": ordering, **d}
     d["error"] = (float(np.linalg.norm(x - x_true) / max(np.linalg.norm(x_true), 1e-300))
                   if x_true is not None else None)
     d["peak_memory_bytes"] = _peak_rss_bytes()
@@ -246,7 +247,8 @@ def sweep_cmd(
     if as_json:
         typer.echo(json.dumps(_jsonable(out)))
         return
-    typer.echo(f"{out['count']} matrices, n={out['n']}, ordering {out['method']} once in {out['order_seconds']:.3f} s")
+    chosen = f" ({out['chosen']})" if out.get("chosen") else ""
+    typer.echo(f"{out['count']} matrices, n={out['n']}, ordering {out['method']}{chosen} once in {out['order_seconds']:.3f} s")
     typer.echo(f"  total with one ordering  {out['total_seconds']:.3f} s (max residual {out['max_residual']:.1e})")
     if baseline:
         typer.echo(f"  SciPy spsolve each time  {out['spsolve_total_seconds']:.3f} s "
