@@ -20,7 +20,7 @@ from scipy.sparse.csgraph import connected_components
 
 from ..graph import Graph, subgraph
 
-__all__ = ["order_by_components", "peel", "Peeled", "wrap_tree"]
+__all__ = ["order_by_components", "peel", "Peeled", "wrap_tree", "is_forest"]
 
 
 def _labels(graph: Graph) -> tuple[int, np.ndarray]:
@@ -185,3 +185,13 @@ def wrap_tree(tree: dict | None, peeled: Peeled, n: int) -> dict | None:
         nodes.append({"id": len(nodes), "parent": 0, "depth": 1, "kind": "leaf", "children": [],
                       "start": int(n_iso), "stop": int(n_iso + n_core), "separator": 0, "sizes": []})
     return dict(tree, n=int(n), root=0, nodes=nodes)
+
+
+def is_forest(graph: Graph) -> bool:
+    """True when ``graph`` has no cycle (edges = vertices − components). A forest has an elimination
+    order without fill (leaves first; minimum degree finds one), so dissecting it is wasted work
+    (textbook fact, e.g. George & Liu 1981, chapter 4)."""
+    if graph.n == 0:
+        return True
+    ncomp, _ = _labels(graph)
+    return int(graph.indices.size) // 2 == graph.n - ncomp
