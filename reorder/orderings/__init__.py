@@ -128,7 +128,7 @@ class _Builtin(NamedTuple):
 #: ``tests/test_first_use.py`` checks the table against what the modules register.
 _BUILTIN: dict[str, _Builtin] = {
     "natural": _Builtin("basic", 0, "the order of the file (identity permutation)", ""),
-    "auto": _Builtin("auto", 5, "best of nd, minimum degree and RCM by exact nnz(L)", "AutoSettings"),
+    "auto": _Builtin("auto", 5, "cost-aware: one minimum-degree rule first, more effort only where it pays", "AutoSettings"),
     "rcm": _Builtin("basic", 10, "reverse Cuthill-McKee (SciPy), the bandwidth baseline", ""),
     "spectral": _Builtin("envelope", 20, "Fiedler-vector envelope ordering refined by Sloan's algorithm",
                          "SpectralSettings"),
@@ -346,9 +346,6 @@ def order(graph, method: str = DEFAULT_METHOD, *, seed: int = 0, **options) -> O
     >>> order(A, "rcm").perm.size
     5
     """
-    import numpy as np
-
-    from ..graph import component_lists, subgraph
     from ..permutation import check_permutation
 
     name, s = resolve(method, options)
@@ -359,25 +356,10 @@ def order(graph, method: str = DEFAULT_METHOD, *, seed: int = 0, **options) -> O
     if not entry.split_components:
         perm, info = _unpack(entry.impl(graph, s, seed))
     else:
-        comps = component_lists(graph) if graph.n else []
-        if len(comps) <= 1:
-            perm, info = _unpack(entry.impl(graph, s, seed)) if graph.n > 1 else (np.arange(graph.n, dtype=np.int64), {})
-        else:
-            parts, infos = [], []
-            for verts in comps:
-                if verts.size <= 2:
-                    parts.append(verts)
-                    continue
-                sub = subgraph(graph, verts)
-                p, inf = _unpack(entry.impl(sub, s, seed))
-                parts.append(verts[p])
-                infos.append(inf)
-            perm = np.concatenate(parts).astype(np.int64)
-            info = {"components": len(comps)}
-            if len(infos) == 1:
-                info.update(infos[0])
-            elif infos:
-                info["component_info"] = infos
+        # components of one or two vertices (isolated vertices included) are placed in bulk
+        from .peel import order_by_components
+
+        perm, info = order_by_components(graph, lambda sub: _unpack(entry.impl(sub, s, seed)))
     perm = check_permutation(perm, graph.n)
     return Ordering(perm=perm, method=str(method), seed=seed, info=info, seconds=time.perf_counter() - t0,
                     settings=s)

@@ -1,98 +1,43 @@
-"""``auto``: compute a few candidate orderings and keep the one with the smallest exact nnz(L).
+"""``auto``: the ordering that pays for itself, searched cheapest first.
 
-The candidates (nested dissection, minimum degree, RCM by default, and SciPy SuperLU's minimum degree
-on small inputs) are counted by the symbolic
-factorization of :mod:`reorder.analysis`, so the result is never worse than the best candidate.
+By default (no ``candidates``) ``auto`` runs the cost-aware search of
+:mod:`reorder.orderings.escalation`: minimum degree under one pivot rule first, then costlier
+candidates (RCM, nested dissection with cheap settings, every pivot rule of minimum degree, SciPy
+SuperLU's minimum degree, nested dissection with full polish, three restarts) only while the
+predicted saving in factorization time, counted ``factorizations`` times, exceeds the predicted
+extra ordering time. With ``candidates`` it runs exactly those methods and keeps the least nnz(L).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import time
 
-import numpy as np
-
 from ..analysis import symbolic_factor
-from ..graph import Graph
-from ..permutation import inverse_permutation
 from ..errors import InputError
-from . import Ordering, register
+from ..graph import Graph
+from . import register
+from .escalation import LADDER, escalate
 from .records import AutoSettings
 
-__all__ = ["auto"]
+__all__ = ["auto", "AutoSettings", "POLICY"]
+
+#: the policy in one sentence (shown by the command line's help)
+POLICY = ("auto starts from minimum degree under one pivot rule and tries costlier orderings (another rule, RCM, "
+          "nd-fast, every rule, SciPy's minimum degree, nd, three nd restarts) only while the predicted saving "
+          "in factorization time, times --factorizations, exceeds the predicted extra ordering time")
 
 
-def _candidates(candidates) -> list[str]:
-    if candidates is not None:
-        return list(candidates)
-    from . import available
-
-    names = available()
-    out = [c for c in ("nd", "mindegree", "rcm") if c in names]
-    return out or ["rcm"]
-
-
-def _superlu_md(graph: Graph) -> np.ndarray:
-    """SciPy SuperLU's minimum degree on A + Aᵀ, as an ordering in our convention (inverse of
-    ``perm_c``), from the factorization of an M-matrix with the graph's pattern (no pivoting)."""
-    import scipy.sparse as sp
-    from scipy.sparse.linalg import splu
-
-    W = graph.to_csr()
-    d = np.asarray(W.sum(axis=1)).ravel()
-    M = sp.csc_matrix(sp.diags(d + 1.0) - W)
-    lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
-    return inverse_permutation(lu.perm_c)
-
-
-@register("auto", AutoSettings, summary="best of nd, minimum degree and RCM by exact nnz(L)", split_components=False,
-          rank=5)
-def auto(graph: Graph, s: AutoSettings, seed: int = 0):
-    """Order by every candidate method and keep the smallest nnz(L) (ties: fewer operations, then
-    the earlier candidate).
-
-    Parameters
-    ----------
-    graph : Graph
-    s : AutoSettings
-        The settings below (called with keywords, ``auto(graph, candidates="nd,rcm")``).
-    seed : int
-    candidates : sequence of str, optional
-        Method names (comma-separated string allowed); default ``nd, mindegree, rcm`` (those
-        registered).
-    superlu_max : int
-        Graphs with at most this many vertices also try SciPy SuperLU's minimum degree on A + Aᵀ
-        (candidate ``"superlu-md"``; it needs a numerical factorization of an M-matrix with the same
-        pattern, so it is kept to small inputs). 0 turns it off.
-    effort : {"fast", "normal", "best"}, optional
-        Passed to the ``nd`` candidate (see :class:`reorder.orderings.nd.NdSettings`).
-    multisection : bool, optional
-        Passed to the ``nd`` candidate (default: its own).
-
-    The other candidates run with their defaults; a candidate may be a method spec
-    (``nd:leaf_size=100``, see :func:`reorder.orderings.parse_method`).
-
-    Returns
-    -------
-    perm : ndarray of int64
-    info : dict
-        ``chosen``; ``candidates``: per method ``{"nnz_factor", "factor_ops", "seconds"}`` (or
-        ``{"error": ...}`` if a candidate failed).
-
-    References
-    ----------
-    J. R. Gilbert, E. G. Ng and B. W. Peyton, SIAM J. Matrix Anal. Appl. 15 (1994) 1075–1091 (the
-    exact column counts that make comparing candidates cheap).
-    """
+def _exhaustive(graph: Graph, s: AutoSettings, seed: int):
+    """Run every method of ``s.candidates`` and keep the least nnz(L) (ties: fewer operations, then
+    the earlier candidate)."""
     from . import order, resolve
 
-    n = graph.n
-    candidates, superlu_max = s.candidates, s.superlu_max
-    names = _candidates(candidates)
+    names = list(s.candidates)
     for name in names:  # unknown names and bad specs are the user's to fix, before any work
         if resolve(name)[0] == "auto":
             raise InputError("auto: option candidates cannot include auto itself")
-    results = {}
-    best = None
+    results, best = {}, None
     for name in names:
         t0 = time.perf_counter()
         try:
@@ -109,20 +54,68 @@ def auto(graph: Graph, s: AutoSettings, seed: int = 0):
                          "seconds": round(time.perf_counter() - t0, 4)}
         if best is None or key < best[0]:
             best = (key, name, o)
-    if 2 < n <= superlu_max and candidates is None:
-        t0 = time.perf_counter()
-        try:
-            p = _superlu_md(graph)
-            sym = symbolic_factor(graph, p)
-            results["superlu-md"] = {"nnz_factor": int(sym.nnz_factor), "factor_ops": int(sym.factor_ops),
-                                     "seconds": round(time.perf_counter() - t0, 4)}
-            key = (sym.nnz_factor, sym.factor_ops)
-            if best is None or key < best[0]:
-                best = (key, "superlu-md", Ordering(perm=p, method="superlu-md"))
-        except Exception as exc:
-            results["superlu-md"] = {"error": f"{type(exc).__name__}: {exc}"}
     if best is None:
         return order(graph, "rcm", seed=seed).perm, {"chosen": "rcm", "candidates": results}
     _, name, o = best
-    info = {"chosen": name, "candidates": results}
-    return o.perm, info
+    return o.perm, {"chosen": name, "candidates": results, "stopped": "every listed candidate ran"}
+
+
+@register("auto", AutoSettings, summary="cost-aware: one minimum-degree rule first, more effort only where it pays",
+          split_components=False, rank=5)
+def auto(graph: Graph, s: AutoSettings, seed: int = 0):
+    """Order by the cheapest candidate that pays for itself.
+
+    What a user pays is the ordering time plus ``factorizations`` times the factorization time.
+    ``auto`` orders by minimum degree under one pivot rule, predicts the factorization time from
+    the exact symbolic counts (:func:`reorder.cost.predict_seconds`, with this machine's rates
+    measured once and cached), and then tries costlier candidates one after another (RCM,
+    ``nd --effort fast``, every pivot rule of minimum degree, SciPy SuperLU's minimum degree,
+    ``nd``, ``nd --effort best``) while the saving each is expected to bring, counted
+    ``factorizations`` times, exceeds the ordering time it is predicted to cost. It keeps the
+    order of least predicted factorization time, so escalating never makes the result worse than
+    the cheap start by that measure.
+
+    Parameters
+    ----------
+    graph : Graph
+    s : AutoSettings
+        The settings below (called with keywords, ``order(g, "auto", factorizations=100)``).
+    seed : int
+    factorizations : float
+        How many factorizations of this pattern will follow (default 1). Newton iterations and time
+        stepping reuse one ordering many times; then more polish pays.
+    candidates : sequence of str, optional
+        Run exactly these methods (comma-separated string allowed; method specs too) and keep the
+        least nnz(L), instead of the search.
+    superlu_max : int
+        Largest graph on which SciPy SuperLU's minimum degree may be a candidate (it needs a
+        numerical factorization of an M-matrix with the pattern); 0 never.
+    effort : {"fast", "normal", "best"}, optional
+        ``"fast"`` ends the search after ``nd --effort fast``; ``"best"`` runs every candidate
+        whatever it costs; ``"normal"`` or None: the cost-aware search.
+    multisection : bool, optional
+        Passed to the ``nd`` candidates.
+
+    Returns
+    -------
+    perm : ndarray of int64
+    info : dict
+        ``chosen``; ``candidates``: per candidate what it cost and gave (``seconds``,
+        ``nnz_factor``, ``factor_ops``, ``predicted_factor_seconds``) or why it did not run
+        (``skipped`` with ``predicted_order_seconds`` and ``expected_saving_seconds``);
+        ``stopped`` (why the search ended); ``factorizations``; ``predicted_factor_seconds``;
+        ``rates`` (``measured``, ``cache`` or ``default``).
+
+    References
+    ----------
+    J. R. Gilbert, E. G. Ng and B. W. Peyton, SIAM J. Matrix Anal. Appl. 15 (1994) 1075–1091 (the
+    exact column counts that make pricing candidates cheap).
+    """
+    if s.candidates is not None:
+        return _exhaustive(graph, s, seed)
+    ladder = tuple(r for r in LADDER if not (r.method == "superlu-md" and s.superlu_max == 0))
+    ladder = tuple(dataclasses.replace(r, max_n=s.superlu_max) if r.method == "superlu-md" else r for r in ladder)
+    if s.effort == "fast":
+        ladder = tuple(r for r in ladder if r.label in ("rcm", "nd-fast"))
+    return escalate(graph, factorizations=s.factorizations, seed=seed, ladder=ladder,
+                    nd_options={"multisection": s.multisection}, time_scale=0.0 if s.effort == "best" else 1.0)

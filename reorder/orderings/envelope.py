@@ -22,11 +22,15 @@ import time
 import numpy as np
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
-from ..graph import Graph
+from ..graph import Graph, subgraph
 from ..kernels import envelope as _ke
 from ..spectral import fiedler_vector, pseudo_peripheral_pair
 from . import register
+from .peel import dense_rows, order_by_components
 from .records import SpectralSettings
+
+#: rows of degree above ``DENSE · √n`` are set aside and numbered last
+DENSE = 10.0
 
 __all__ = ["spectral_envelope", "sloan_order", "profile_of", "spectral_sort"]
 
@@ -148,6 +152,13 @@ def spectral_envelope(graph: Graph, s: SpectralSettings, seed: int = 0):
     Methods Eng.; Kumfert & Pothen (1997), BIT.
     """
     n = graph.n
+    heavy = dense_rows(graph, DENSE)
+    if heavy.size and heavy.size < n:
+        # dense rows last (each adds its position to the profile, the least there), the rest by
+        # component: a hub joining everything slows the eigensolver down by orders of magnitude
+        keep = np.setdiff1d(np.arange(n, dtype=np.int64), heavy)
+        p, info = order_by_components(subgraph(graph, keep), lambda g: spectral_envelope.impl(g, s, seed))
+        return np.concatenate((keep[p], heavy)), dict(info, dense_rows=int(heavy.size))
     operator, weights, refine, candidates = s.operator, s.weights, s.refine, s.candidates
     polish_rounds, large, near_double = s.polish_rounds, s.large, s.near_double
     fopts = {k: getattr(s, k) for k in _FIEDLER_OPTIONS}

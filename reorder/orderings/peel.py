@@ -20,7 +20,7 @@ from scipy.sparse.csgraph import connected_components
 
 from ..graph import Graph, subgraph
 
-__all__ = ["order_by_components", "peel", "Peeled", "wrap_tree", "is_forest"]
+__all__ = ["order_by_components", "peel", "dense_rows", "Peeled", "wrap_tree", "is_forest"]
 
 
 def _labels(graph: Graph) -> tuple[int, np.ndarray]:
@@ -109,6 +109,17 @@ class Peeled:
         """The whole order: isolated vertices, the core in ``core_perm`` (local numbers), dense rows."""
         core_perm = np.asarray(core_perm, dtype=np.int64)
         return np.concatenate((self.isolated, self.core[core_perm], self.dense)).astype(np.int64)
+
+
+def dense_rows(graph: Graph, dense: float = 10.0) -> np.ndarray:
+    """Vertices of degree above ``dense · √n``, lightest first (ties by vertex number); none when
+    ``dense <= 0``."""
+    n = graph.n
+    if dense is None or dense <= 0 or n == 0:
+        return np.zeros(0, dtype=np.int64)
+    deg = np.diff(graph.indptr)
+    v = np.flatnonzero(deg > dense * math.sqrt(n)).astype(np.int64)
+    return v[np.argsort(deg[v], kind="stable")]
 
 
 def peel(graph: Graph, dense: float = 10.0) -> Peeled:

@@ -34,11 +34,17 @@ _TABLE = "from the effort table (reorder.orderings.nd.presets)"
 class AutoSettings:
     """Settings of ``auto`` (see :func:`auto`)."""
 
-    candidates: tuple | None = setting(None, "methods to try, comma-separated (default nd, mindegree, rcm)")
-    superlu_max: int = setting(5000, "up to this many rows also try SciPy SuperLU's minimum degree (0: never)",
-                               minimum=0)
-    effort: str | None = setting(None, "effort of the nd candidate (see nd)", choices=EFFORTS, flag="--effort")
-    multisection: bool | None = setting(None, "multisection of the nd candidate (see nd)", flag="--multisection")
+    factorizations: float = setting(1.0, "how many factorizations of this pattern follow (Newton or time steps); "
+                                    "the more, the more ordering effort pays", minimum=0.0, flag="--factorizations",
+                                    metavar="K")
+    candidates: tuple | None = setting(None, "run exactly these methods (comma-separated) and keep the least nnz(L), "
+                                       "instead of the cost-aware search")
+    superlu_max: int = setting(50_000, "up to this many rows SciPy SuperLU's minimum degree may be a candidate "
+                               "(0: never)", minimum=0)
+    effort: str | None = setting(None, "fast: search no further than nd-fast; best: run every candidate whatever "
+                                 "it costs; normal: the cost-aware search (the default)", choices=EFFORTS,
+                                 flag="--effort")
+    multisection: bool | None = setting(None, "multisection of the nd candidates (see nd)", flag="--multisection")
 
 
 @dataclass(frozen=True)

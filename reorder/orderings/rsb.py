@@ -18,10 +18,14 @@ from ..kernels import traversal as _kt
 from ..spectral import fiedler_vector
 from . import register
 from .blocks import order_blocks
+from .peel import dense_rows
 from .seeds import node_seed
 from .records import RsbSettings
 
 __all__ = ["RsbSettings", "recursive_spectral_bisection"]
+
+#: rows of degree above ``DENSE · √n`` are kept out of the bisections and put in the last block
+DENSE = 10.0
 
 
 @register("rsb", RsbSettings, summary="recursive spectral bisection into --parts blocks, ordered block by block",
@@ -58,7 +62,13 @@ def recursive_spectral_bisection(graph: Graph, s: RsbSettings, seed: int = 0):
     parts, within = max(1, min(int(s.parts), n)), s.within  # capped by n: labels and part sizes stay O(n)
     labels = np.zeros(n, dtype=np.int64)
     local = np.full(n, -1, dtype=np.int64)
-    stack = [(np.arange(n, dtype=np.int64), parts, 0)]
+    # dense rows (degree above DENSE·√n) take no part in the bisections: a hub joins everything and
+    # slows the eigensolvers down; they go to the last block, where minimum degree orders them last
+    dense = dense_rows(graph, DENSE)
+    rest = np.ones(n, dtype=bool)
+    rest[dense] = False
+    labels[dense] = parts - 1
+    stack = [(np.flatnonzero(rest).astype(np.int64), parts, 0)]
     count = 0
     while stack:
         verts, k, off = stack.pop()
@@ -71,21 +81,25 @@ def recursive_spectral_bisection(graph: Graph, s: RsbSettings, seed: int = 0):
         ncomp, lab = _k.component_labels(ip, ix)
         key = np.zeros(m, dtype=np.float64)
         comp_sizes = np.bincount(lab, minlength=ncomp)
-        for c in range(int(ncomp)):
-            idx = np.flatnonzero(lab == c) if ncomp > 1 else np.arange(m)
-            if idx.size >= 3:
-                if ncomp > 1:
-                    sip, six = _k.induced_subgraph(ip, ix, idx, np.full(m, -1, dtype=np.int64))
-                else:
-                    sip, six = ip, ix
-                g = Graph(n=idx.size, indptr=sip, indices=six)
-                try:
-                    v = fiedler_vector(g, seed=node_seed(seed, count)).vector
-                except Exception:
-                    v = _kt.bfs_levels(sip, six, 0).astype(np.float64)
-                r = np.argsort(np.argsort(v, kind="stable"), kind="stable")
-                key[idx] = r / max(idx.size, 1)
-            count += 1
+        # vertices grouped by component (a stable sort keeps each group increasing); only components
+        # of three or more vertices need a vector (smaller ones keep key 0: a diagonal matrix of 10⁶
+        # rows is 10⁶ components, handled here in bulk)
+        by_comp = np.argsort(lab, kind="stable")
+        bounds = np.searchsorted(lab[by_comp], np.arange(ncomp + 1))
+        for c in np.flatnonzero(comp_sizes >= 3):
+            idx = by_comp[bounds[c]:bounds[c + 1]] if ncomp > 1 else np.arange(m)
+            if ncomp > 1:
+                sip, six = _k.induced_subgraph(ip, ix, idx, np.full(m, -1, dtype=np.int64))
+            else:
+                sip, six = ip, ix
+            g = Graph(n=idx.size, indptr=sip, indices=six)
+            try:
+                v = fiedler_vector(g, seed=node_seed(seed, count + int(c))).vector
+            except Exception:
+                v = _kt.bfs_levels(sip, six, 0).astype(np.float64)
+            r = np.argsort(np.argsort(v, kind="stable"), kind="stable")
+            key[idx] = r / max(idx.size, 1)
+        count += int(ncomp)
         # components one after another (largest first), each along its Fiedler vector
         comp_rank = np.empty(ncomp, dtype=np.int64)
         comp_rank[np.lexsort((np.arange(ncomp), -comp_sizes))] = np.arange(ncomp)

@@ -31,6 +31,8 @@ References
 
 from __future__ import annotations
 
+import numpy as np
+
 from ...analysis import symbolic_factor
 from ...graph import Graph
 from ...threads import single_blas_thread
@@ -38,7 +40,12 @@ from .. import alias, register
 from ..records import EFFORTS, NdSettings
 from . import presets
 from .dissect import dissect
+from ..peel import is_forest, peel, wrap_tree
 from .tree import SeparatorTree
+
+#: rows of degree above ``DENSE · √n`` are set aside and ordered last (their elimination then
+#: costs nothing a good order avoids; inside the graph they join every subproblem)
+DENSE = 10.0
 
 __all__ = ["NdSettings", "EFFORTS", "SeparatorTree", "nested_dissection", "nested_dissection_fast"]
 
@@ -68,7 +75,11 @@ def nested_dissection(graph: Graph, s: NdSettings, seed: int = 0):
         (method used for the leaves), ``subtrees_tried``, ``subtrees_to_mindegree`` (subtrees
         replaced by minimum degree), ``subtrees_multisected`` (subtrees won by multisection; some
         may later be absorbed by a parent's choice), ``leaves_rescored`` (leaves reordered by
-        another pivot rule), ``restarts`` (with more than one: ``[factor_ops, nnz_factor]`` of each).
+        another pivot rule), ``restarts`` (with more than one: ``[factor_ops, nnz_factor]`` of each);
+        where isolated vertices or dense rows (degree above ``DENSE · √n``) were set aside,
+        ``isolated`` and ``dense_rows`` (they are ordered first and last; the tree's root is then a
+        ``"components"`` node with the dense rows as its separator); ``forest`` when what is left
+        has no cycle (then minimum degree orders it without fill and the tree is one leaf).
 
     References
     ----------
@@ -76,6 +87,30 @@ def nested_dissection(graph: Graph, s: NdSettings, seed: int = 0):
     Hendrickson & Rothberg (1998); Ashcraft & Liu (1998) for multisection and the choice between
     dissection and minimum degree by exact counts.
     """
+    peeled = peel(graph, DENSE)
+    core = peeled.graph
+    if is_forest(core):
+        # no cycle: minimum degree eliminates leaves first and makes no fill; nothing to dissect
+        from .. import order
+
+        perm = order(core, "mindegree", score="degree").perm if core.n > 1 else np.arange(core.n, dtype=np.int64)
+        leaf = {"id": 0, "parent": -1, "depth": 0, "kind": "leaf", "children": [], "start": 0, "stop": int(core.n),
+                "separator": 0, "sizes": []}
+        tree = SeparatorTree(n=core.n, nodes=[leaf] if core.n else [])
+        info = {"separator_tree": tree.to_json(), "top_separator": 0, "leaves": 1, "separator_vertices": 0,
+                "leaf_order": "mindegree", "forest": True}
+    else:
+        perm, info = _restarts(core, s, seed)
+    if peeled.trivial:
+        return perm, info
+    info["separator_tree"] = wrap_tree(info.get("separator_tree"), peeled, graph.n)
+    info["isolated"] = int(peeled.isolated.size)
+    info["dense_rows"] = int(peeled.dense.size)
+    return peeled.assemble(perm), info
+
+
+def _restarts(graph: Graph, s: NdSettings, seed: int):
+    """The dissection of a graph without isolated vertices or dense rows, best of the restarts."""
     from ..seeds import restart_seed
 
     r = presets.resolve(s, graph.n)
