@@ -252,11 +252,9 @@ def _one_line(exc: BaseException) -> str:
 
 def _mmatrix(graph, perm) -> sp.csc_matrix:
     """The M-matrix with the graph's pattern (off-diagonals −1, diagonal = degree + 1), reordered."""
-    n = graph.n
-    deg = graph.degrees().astype(np.float64)
-    M = sp.csr_matrix((-np.ones(graph.indices.size), graph.indices, graph.indptr), shape=(n, n))
-    M = M + sp.diags(deg + 1.0, format="csr")
-    return sp.csc_matrix(M[perm][:, perm])
+    from .gallery import m_matrix
+
+    return sp.csc_matrix(m_matrix(graph).tocsr()[perm][:, perm])
 
 
 def _looks_spd(B) -> bool:

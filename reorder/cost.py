@@ -40,6 +40,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from .analysis import Symbolic, symbolic_factor
+from .gallery import grid, m_matrix
 from .graph import Graph, from_matrix
 
 __all__ = ["Rates", "DEFAULT_RATES", "FactorCounts", "factor_counts", "predict_seconds", "machine_rates",
@@ -200,13 +201,7 @@ def _machine_key() -> str:
 
 def _grid(dims) -> sp.csc_matrix:
     """M-matrix of the 5-point (2-D) or 7-point (3-D) stencil, diagonal = degree + 1."""
-    mats = [sp.diags([-1.0, -1.0], [-1, 1], shape=(k, k)) for k in dims]
-    W = mats[0]
-    for k, T in zip(dims[1:], mats[1:]):
-        W = sp.kron(W, sp.eye(k)) + sp.kron(sp.eye(W.shape[0]), T)
-    W = sp.csr_matrix(W)
-    d = -np.asarray(W.sum(axis=1)).ravel()
-    return sp.csc_matrix(W + sp.diags(d + 1.0))
+    return m_matrix(grid(*dims))
 
 
 def _time_superlu(B: sp.csc_matrix, repeat: int) -> float:
@@ -247,15 +242,9 @@ def calibrate(repeat: int = 3) -> Rates:
 
 def _cheap_fill_order(g: Graph) -> np.ndarray:
     """SciPy SuperLU's own minimum degree on the pattern (no project ordering needed here)."""
-    from scipy.sparse.linalg import splu
+    from .orderings.basic import superlu_minimum_degree
 
-    W = g.to_csr()
-    d = np.asarray(W.sum(axis=1)).ravel()
-    M = sp.csc_matrix(sp.diags(d + 1.0) - W)
-    lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
-    perm = np.empty(g.n, dtype=np.int64)
-    perm[lu.perm_c] = np.arange(g.n)
-    return perm
+    return superlu_minimum_degree(g)
 
 
 _RATES: Rates | None = None

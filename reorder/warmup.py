@@ -39,14 +39,10 @@ _ANNOUNCED = False
 
 def _grid(k: int):
     """The 5-point k × k grid graph."""
-    import numpy as np
+    from .gallery import grid2d
+    from .graph import from_matrix
 
-    from .graph import from_edges
-
-    idx = np.arange(k * k).reshape(k, k)
-    rows = np.concatenate([idx[:, :-1].ravel(), idx[:-1, :].ravel()])
-    cols = np.concatenate([idx[:, 1:].ravel(), idx[1:, :].ravel()])
-    return from_edges(k * k, rows, cols)
+    return from_matrix(grid2d(k))
 
 
 #: Warm-up graphs: a tiny one (paths for small subproblems) and one large enough for the multilevel

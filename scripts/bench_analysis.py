@@ -23,24 +23,19 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from reorder.analysis import analyse
+from reorder.gallery import grid2d
 from reorder.graph import from_matrix
-
-
-def grid(k: int) -> sp.csr_matrix:
-    T = sp.diags([-1.0, 2.0, -1.0], [-1, 0, 1], shape=(k, k))
-    I = sp.eye(k)
-    return sp.csr_matrix(sp.kron(T, I) + sp.kron(I, T))
 
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--sizes", default="250,500,1000", help="grid sides k (n = k^2)")
     args = ap.parse_args()
-    analyse(grid(4))  # compile / load kernels
+    analyse(grid2d(4))  # compile / load kernels
     rows = []
     print(f"{'k':>6} {'n':>9} {'nnz(L)':>14} {'analyse s':>10} {'stats CLI s':>12} {'SciPy RCM s':>12} {'ratio':>7}")
     for k in map(int, args.sizes.split(",")):
-        A = grid(k)
+        A = grid2d(k)
         g = from_matrix(A)
         t0 = time.perf_counter()
         s = analyse(A, graph=g)

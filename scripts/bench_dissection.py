@@ -39,20 +39,12 @@ import scipy.sparse as sp
 from scipy.sparse.linalg import splu
 
 from reorder.analysis import symbolic_factor
+from reorder.gallery import m_matrix
 from reorder.graph import from_matrix
 from reorder.orderings import order
+from reorder.permutation import inverse_permutation
 
 TARGET_KINDS = ("grid2d", "grid3d", "fem2d", "fem3d")
-
-
-def m_matrix(A):
-    P = sp.csr_matrix(A, copy=True)
-    P = (abs(P) + abs(P).T).tocsr()
-    P.setdiag(0)
-    P.eliminate_zeros()
-    P.data[:] = -1.0
-    d = -np.asarray(P.sum(axis=1)).ravel()
-    return sp.csc_matrix(P + sp.diags(d + 1.0))
 
 
 def scipy_md(M):
@@ -60,9 +52,7 @@ def scipy_md(M):
     t = time.perf_counter()
     lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
     sec = time.perf_counter() - t
-    perm = np.empty(M.shape[0], dtype=np.int64)
-    perm[lu.perm_c] = np.arange(M.shape[0])
-    return perm, sec
+    return inverse_permutation(lu.perm_c), sec
 
 
 def suite_cases(min_n):

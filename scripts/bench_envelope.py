@@ -25,6 +25,7 @@ import pyamg
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 from scipy.spatial import Delaunay, cKDTree
 
+from reorder import gallery
 from reorder.graph import Graph, component_lists, from_edges, from_matrix, subgraph
 from reorder.orderings import order
 from reorder.orderings.envelope import profile_of
@@ -34,15 +35,11 @@ from reorder.orderings.envelope import profile_of
 
 
 def grid2d(k: int, points: int = 5) -> Graph:
-    if points == 5:
-        return from_matrix(pyamg.gallery.poisson((k, k)))
-    return from_matrix(pyamg.gallery.stencil_grid(np.ones((3, 3)), (k, k)))
+    return from_matrix(gallery.grid2d(k, points=points))
 
 
 def grid3d(k: int, points: int = 7) -> Graph:
-    if points == 7:
-        return from_matrix(pyamg.gallery.poisson((k, k, k)))
-    return from_matrix(pyamg.gallery.stencil_grid(np.ones((3, 3, 3)), (k, k, k)))
+    return from_matrix(gallery.grid3d(k, points=points))
 
 
 def _elements_graph(n: int, elems: np.ndarray) -> Graph:

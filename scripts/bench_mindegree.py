@@ -28,17 +28,11 @@ from scipy.sparse.csgraph import reverse_cuthill_mckee
 from scipy.sparse.linalg import splu
 
 from reorder.analysis import analyse, inverse
+from reorder.gallery import m_matrix
 from reorder.graph import Graph, from_matrix
 from reorder.orderings import order
 
 RESULTS = Path(__file__).resolve().parent / "results" / "bench_mindegree.json"
-
-
-def m_matrix(graph: Graph) -> sp.csc_matrix:
-    """Off-diagonals -1, diagonal degree + 1: SPD, no pivoting, no cancellation (NOTES.md, 4)."""
-    A = graph.to_csr()
-    deg = np.asarray(A.sum(axis=1)).ravel()
-    return sp.csc_matrix(sp.diags(deg + 1.0) - A)
 
 
 def scipy_min_degree(graph: Graph) -> np.ndarray:

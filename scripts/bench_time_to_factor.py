@@ -43,6 +43,7 @@ from scipy.sparse.csgraph import reverse_cuthill_mckee
 from scipy.sparse.linalg import splu
 
 import reorder
+from reorder import gallery
 from reorder.analysis import symbolic_factor
 from reorder.cost import factor_counts, machine_rates, predict_seconds
 from reorder.graph import from_matrix
@@ -51,12 +52,8 @@ TARGET_KINDS = ("grid2d", "grid3d", "fem2d", "fem3d")
 
 
 def grid(dims) -> sp.csc_matrix:
-    """5-point (2-D) / 7-point (3-D) Laplacian, Dirichlet boundary (textbook stencil)."""
-    mats = [sp.diags([-1.0, 2.0, -1.0], [-1, 0, 1], shape=(k, k)) for k in dims]
-    A = mats[0]
-    for T in mats[1:]:
-        A = sp.kron(A, sp.eye(T.shape[0])) + sp.kron(sp.eye(A.shape[0]), T)
-    return sp.csc_matrix(A)
+    """5-point (2-D) / 7-point (3-D) Laplacian, Dirichlet boundary (reorder.gallery)."""
+    return sp.csc_matrix(gallery.grid(*dims))
 
 
 def scipy_path(A):

@@ -1,4 +1,5 @@
-"""Shared fixtures: small matrices built from textbook stencils (no project code involved)."""
+"""Shared fixtures. The grids and M-matrices come from :mod:`reorder.gallery` (textbook stencils;
+tests/test_gallery.py checks them against pyamg's gallery and closed-form spectra)."""
 
 from __future__ import annotations
 
@@ -7,31 +8,7 @@ import pytest
 import scipy.sparse as sp
 from scipy.sparse.linalg import splu
 
-
-def grid2d(k: int, m: int | None = None) -> sp.csr_matrix:
-    """5-point Laplacian on a k × m grid (Kronecker sum of 1-D second differences)."""
-    m = k if m is None else m
-    Tk = sp.diags([-1.0, 2.0, -1.0], [-1, 0, 1], shape=(k, k))
-    Tm = sp.diags([-1.0, 2.0, -1.0], [-1, 0, 1], shape=(m, m))
-    return sp.csr_matrix(sp.kron(Tk, sp.eye(m)) + sp.kron(sp.eye(k), Tm))
-
-
-def grid3d(k: int) -> sp.csr_matrix:
-    """7-point Laplacian on a k × k × k grid."""
-    T = sp.diags([-1.0, 2.0, -1.0], [-1, 0, 1], shape=(k, k))
-    I = sp.eye(k)
-    return sp.csr_matrix(sp.kron(sp.kron(T, I), I) + sp.kron(sp.kron(I, T), I) + sp.kron(sp.kron(I, I), T))
-
-
-def m_matrix(pattern) -> sp.csr_matrix:
-    """SPD M-matrix with the symmetric pattern of ``pattern``: off-diagonals -1, diagonal degree + 1."""
-    P = sp.csr_matrix(pattern, copy=True)
-    P = (abs(P) + abs(P).T).tocsr()
-    P.setdiag(0)
-    P.eliminate_zeros()
-    P.data[:] = -1.0
-    deg = -np.asarray(P.sum(axis=1)).ravel()
-    return sp.csr_matrix(P + sp.diags(deg + 1.0))
+from reorder.gallery import grid2d, grid3d, m_matrix  # noqa: F401  (shared by the tests)
 
 
 def superlu_nnz_l(B: sp.spmatrix) -> int:

@@ -16,6 +16,7 @@ from scipy.sparse.linalg import splu
 
 import reorder.compare as C
 from reorder.errors import InputError
+from reorder.gallery import grid2d, m_matrix
 from reorder.io import read_matrix, read_permutation, write_matrix
 from reorder.report import MEASURED_COLUMNS
 
@@ -23,22 +24,17 @@ from reorder.report import MEASURED_COLUMNS
 METHODS = [m for m in ("natural", "rcm", "mindegree", "nd") if m in __import__("reorder").available()]
 
 
-def _grid(k: int) -> sp.csr_matrix:
-    T = sp.diags([-np.ones(k - 1), 2 * np.ones(k), -np.ones(k - 1)], [-1, 0, 1])
-    return sp.csr_matrix(sp.kron(T, sp.eye(k)) + sp.kron(sp.eye(k), T))
-
-
 @pytest.fixture(scope="module")
 def suite(tmp_path_factory) -> Path:
     """Four small matrices: an SPD grid (.mtx), an indefinite symmetric matrix with a
     nonsymmetric pattern (.npz), a disconnected SPD matrix (.mtx.gz), a 2-row matrix."""
     d = tmp_path_factory.mktemp("suite")
-    write_matrix(d / "grid.mtx", _grid(7))
+    write_matrix(d / "grid.mtx", grid2d(7))
     rng = np.random.default_rng(1)
     B = sp.random(40, 40, density=0.08, random_state=rng, format="csr")
     B = B + sp.diags(rng.standard_normal(40))  # indefinite, pattern not symmetric
     write_matrix(d / "indef.npz", B)
-    D = sp.block_diag([_grid(3), _grid(4)[:10, :10] + 4 * sp.eye(10)])
+    D = sp.block_diag([grid2d(3), grid2d(4)[:10, :10] + 4 * sp.eye(10)])
     write_matrix(d / "twoparts.mtx.gz", D)
     write_matrix(d / "tiny.mtx", sp.csr_matrix(np.array([[2.0, -1.0], [-1.0, 2.0]])))
     return d
@@ -61,16 +57,6 @@ def serial(suite, tmp_path_factory):
     return res, out
 
 
-def _mmatrix(A) -> sp.csc_matrix:
-    """M-matrix with the symmetrized pattern of A: off-diagonals −1, diagonal = degree + 1."""
-    P = sp.csr_matrix((np.ones(A.nnz), A.indices, A.indptr), shape=A.shape)
-    P = ((P + P.T) > 0).astype(float)
-    P.setdiag(0)
-    P.eliminate_zeros()
-    deg = np.asarray(P.sum(axis=1)).ravel()
-    return sp.csc_matrix(-P + sp.diags(deg + 1.0))
-
-
 def test_nnz_factor_equals_superlu(serial, suite):
     res, out = serial
     rows = _read_csv(out / "results.csv")
@@ -82,7 +68,7 @@ def test_nnz_factor_equals_superlu(serial, suite):
         assert r["status"] == "ok", r
         A = read_matrix(paths[r["matrix"]])
         perm = read_permutation(out / "permutations" / f"{r['matrix']}.{r['method']}.txt", A.shape[0], base=0)
-        M = _mmatrix(A)
+        M = m_matrix(A)
         B = sp.csc_matrix(M[perm][:, perm])
         # outside reference: SciPy SuperLU in natural order without pivoting on the permuted M-matrix;
         # L holds the unit diagonal, explicit zeros removed (NOTES.md item 4)

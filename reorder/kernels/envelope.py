@@ -9,6 +9,8 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
+from .heap import heap_down, heap_up
+
 
 @njit(cache=True)
 def row_profile(n, indptr, indices, inv):
@@ -26,52 +28,6 @@ def row_profile(n, indptr, indices, inv):
 
 
 @njit(cache=True)
-def _better(prio, a, b):
-    # True if vertex a should leave the queue before vertex b (higher priority, then smaller index)
-    if prio[a] > prio[b]:
-        return True
-    if prio[a] < prio[b]:
-        return False
-    return a < b
-
-
-@njit(cache=True)
-def _sift_up(heap, pos, prio, k):
-    v = heap[k]
-    while k > 0:
-        parent = (k - 1) >> 1
-        u = heap[parent]
-        if _better(prio, v, u):
-            heap[k] = u
-            pos[u] = k
-            k = parent
-        else:
-            break
-    heap[k] = v
-    pos[v] = k
-
-
-@njit(cache=True)
-def _sift_down(heap, pos, prio, k, size):
-    v = heap[k]
-    while True:
-        c = 2 * k + 1
-        if c >= size:
-            break
-        if c + 1 < size and _better(prio, heap[c + 1], heap[c]):
-            c += 1
-        u = heap[c]
-        if _better(prio, u, v):
-            heap[k] = u
-            pos[u] = k
-            k = c
-        else:
-            break
-    heap[k] = v
-    pos[v] = k
-
-
-@njit(cache=True)
 def sloan(n, indptr, indices, start, gprio, w1, w2):
     """Sloan's profile-reducing numbering with a global priority ``gprio``.
 
@@ -83,9 +39,12 @@ def sloan(n, indptr, indices, start, gprio, w1, w2):
     Returns the numbering ``perm`` (position → vertex).
     """
     status = np.zeros(n, dtype=np.int8)  # 0 inactive, 1 preactive, 2 active, 3 numbered
-    prio = np.empty(n, dtype=np.float64)
+    # the queue leaves the highest priority first, ties to the smaller index: a heap on -priority
+    # with the negated index as tie (negation is exact, so the order is the same)
+    key = np.empty(n, dtype=np.float64)
     for v in range(n):
-        prio[v] = w2 * gprio[v] - w1 * (indptr[v + 1] - indptr[v] + 1)
+        key[v] = -(w2 * gprio[v] - w1 * (indptr[v + 1] - indptr[v] + 1))
+    tie = -np.arange(n, dtype=np.int64)
     heap = np.empty(n, dtype=np.int64)
     pos = np.full(n, -1, dtype=np.int64)
     perm = np.empty(n, dtype=np.int64)
@@ -111,20 +70,20 @@ def sloan(n, indptr, indices, start, gprio, w1, w2):
         if size > 0:
             heap[0] = heap[size]
             pos[heap[0]] = 0
-            _sift_down(heap, pos, prio, 0, size)
+            heap_down(0, size, heap, pos, key, tie)
         if status[i] == 1:
             for p in range(indptr[i], indptr[i + 1]):
                 j = indices[p]
                 if status[j] == 3:
                     continue
-                prio[j] += w1
+                key[j] -= w1
                 if status[j] == 0:
                     status[j] = 1
                     heap[size] = j
                     size += 1
-                    _sift_up(heap, pos, prio, size - 1)
+                    heap_up(size - 1, heap, pos, key, tie)
                 elif pos[j] >= 0:
-                    _sift_up(heap, pos, prio, pos[j])
+                    heap_up(pos[j], heap, pos, key, tie)
         perm[k] = i
         k += 1
         status[i] = 3
@@ -133,18 +92,18 @@ def sloan(n, indptr, indices, start, gprio, w1, w2):
             if status[j] != 1:
                 continue
             status[j] = 2
-            prio[j] += w1
-            _sift_up(heap, pos, prio, pos[j])
+            key[j] -= w1
+            heap_up(pos[j], heap, pos, key, tie)
             for q in range(indptr[j], indptr[j + 1]):
                 m = indices[q]
                 if status[m] == 3:
                     continue
-                prio[m] += w1
+                key[m] -= w1
                 if status[m] == 0:
                     status[m] = 1
                     heap[size] = m
                     size += 1
-                    _sift_up(heap, pos, prio, size - 1)
+                    heap_up(size - 1, heap, pos, key, tie)
                 elif pos[m] >= 0:
-                    _sift_up(heap, pos, prio, pos[m])
+                    heap_up(pos[m], heap, pos, key, tie)
     return perm

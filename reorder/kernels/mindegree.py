@@ -29,6 +29,8 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
+from .heap import before, heap_down, heap_push, heap_remove, heap_up
+
 # vertex states
 _VAR = 0  # principal variable (uneliminated supervariable representative)
 _ELEM = 1  # live element (eliminated pivot whose clique is still needed)
@@ -70,77 +72,6 @@ def _bucket_insert(v, d, deg, bhead, bnext, bprev, fifo, btail):
         else:
             btail[d] = v
         bhead[d] = v
-
-
-@njit(cache=True)
-def _less(a, b, hval, hseq):
-    va = hval[a]
-    vb = hval[b]
-    if va != vb:
-        return va < vb
-    return hseq[a] > hseq[b]
-
-
-@njit(cache=True)
-def _heap_up(k, heap, hpos, hval, hseq):
-    v = heap[k]
-    while k > 0:
-        parent = (k - 1) >> 1
-        u = heap[parent]
-        if _less(v, u, hval, hseq):
-            heap[k] = u
-            hpos[u] = k
-            k = parent
-        else:
-            break
-    heap[k] = v
-    hpos[v] = k
-
-
-@njit(cache=True)
-def _heap_down(k, size, heap, hpos, hval, hseq):
-    v = heap[k]
-    while True:
-        c = 2 * k + 1
-        if c >= size:
-            break
-        if c + 1 < size and _less(heap[c + 1], heap[c], hval, hseq):
-            c += 1
-        u = heap[c]
-        if _less(u, v, hval, hseq):
-            heap[k] = u
-            hpos[u] = k
-            k = c
-        else:
-            break
-    heap[k] = v
-    hpos[v] = k
-
-
-@njit(cache=True)
-def _heap_remove(v, size, heap, hpos, hval, hseq):
-    """Remove ``v`` from the heap of ``size`` entries; return the new size."""
-    k = hpos[v]
-    hpos[v] = -1
-    size -= 1
-    if k == size:
-        return size
-    last = heap[size]
-    heap[k] = last
-    hpos[last] = k
-    if k > 0 and _less(last, heap[(k - 1) >> 1], hval, hseq):
-        _heap_up(k, heap, hpos, hval, hseq)
-    else:
-        _heap_down(k, size, heap, hpos, hval, hseq)
-    return size
-
-
-@njit(cache=True)
-def _heap_push(v, size, heap, hpos, hval, hseq):
-    heap[size] = v
-    hpos[v] = size
-    _heap_up(size, heap, hpos, hval, hseq)
-    return size + 1
 
 
 @njit(cache=True)
@@ -408,12 +339,12 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                 hval[v] = deg[v] + 0.5 if score == 4 else _fill_score(deg[v], 0, wt[v])
                 hseq[v] = seq
                 seq += 1
-                hsize = _heap_push(v, hsize, heap, hpos, hval, hseq)
+                hsize = heap_push(v, hsize, heap, hpos, hval, hseq)
             elif useheap:
                 hval[v] = _fill_score(deg[v], 0, wt[v])
                 hseq[v] = seq
                 seq += 1
-                hsize = _heap_push(v, hsize, heap, hpos, hval, hseq)
+                hsize = heap_push(v, hsize, heap, hpos, hval, hseq)
             else:
                 _bucket_insert(v, deg[v], deg, bhead, bnext, bprev, fifo, btail)
 
@@ -457,7 +388,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                             hval[i] = d + 0.5 * (1.0 - big / (d + 1.0))
                         hseq[i] = seq
                         seq += 1
-                        hsize = _heap_push(i, hsize, heap, hpos, hval, hseq)
+                        hsize = heap_push(i, hsize, heap, hpos, hval, hseq)
                     else:
                         _bucket_insert(i, d, deg, bhead, bnext, bprev, fifo, btail)
                         if d < mindeg:
@@ -465,7 +396,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                 npend = 0
         if useheap:
             me = heap[0]
-            hsize = _heap_remove(me, hsize, heap, hpos, hval, hseq)
+            hsize = heap_remove(me, hsize, heap, hpos, hval, hseq)
             if exact and npend == 0:
                 stagedeg = deg[me]
                 stageval = hval[me]
@@ -498,7 +429,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     wt[i] = -wt[i]
                     if role[i] == 1 and pend[i] == 0:
                         if useheap:
-                            hsize = _heap_remove(i, hsize, heap, hpos, hval, hseq)
+                            hsize = heap_remove(i, hsize, heap, hpos, hval, hseq)
                         else:
                             _bucket_remove(i, deg, bhead, bnext, bprev, btail)
             length[me] = q - p0
@@ -532,7 +463,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                         wt[i] = -wt[i]
                         if role[i] == 1 and pend[i] == 0:
                             if useheap:
-                                hsize = _heap_remove(i, hsize, heap, hpos, hval, hseq)
+                                hsize = heap_remove(i, hsize, heap, hpos, hval, hseq)
                             else:
                                 _bucket_remove(i, deg, bhead, bnext, bprev, btail)
                 state[e] = _DEAD
@@ -547,7 +478,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     wt[i] = -wt[i]
                     if role[i] == 1 and pend[i] == 0:
                         if useheap:
-                            hsize = _heap_remove(i, hsize, heap, hpos, hval, hseq)
+                            hsize = heap_remove(i, hsize, heap, hpos, hval, hseq)
                         else:
                             _bucket_remove(i, deg, bhead, bnext, bprev, btail)
             start[me] = p0
@@ -720,7 +651,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                         hval[i] = _fill_score(d, m - nvi, nvi)
                     hseq[i] = seq
                     seq += 1
-                    hsize = _heap_push(i, hsize, heap, hpos, hval, hseq)
+                    hsize = heap_push(i, hsize, heap, hpos, hval, hseq)
                 else:
                     _bucket_insert(i, d, deg, bhead, bnext, bprev, fifo, btail)
                     if d < mindeg:

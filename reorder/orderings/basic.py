@@ -5,7 +5,9 @@ from __future__ import annotations
 import numpy as np
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
+from ..gallery import m_matrix
 from ..graph import Graph
+from ..permutation import inverse_permutation
 from . import register
 from .settings import NoSettings
 
@@ -28,3 +30,15 @@ def rcm(graph: Graph, s: NoSettings, seed: int = 0):
     """
     perm = reverse_cuthill_mckee(graph.to_csr(), symmetric_mode=True)
     return np.asarray(perm, dtype=np.int64), {}
+
+
+def superlu_minimum_degree(graph: Graph) -> np.ndarray:
+    """SciPy SuperLU's own minimum degree on A + Aᵀ, as an ordering in our convention (the inverse
+    of its column permutation ``perm_c``), from the factorization of the M-matrix of the graph's
+    pattern (:func:`reorder.gallery.m_matrix`; no pivoting). The reference that ``auto`` and the
+    cost-aware search compete with.
+    """
+    from scipy.sparse.linalg import splu
+
+    lu = splu(m_matrix(graph), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
+    return inverse_permutation(lu.perm_c)

@@ -22,6 +22,7 @@ import numpy as np
 from ..analysis import symbolic_factor
 from ..cost import factor_counts, machine_rates, predict_seconds
 from ..graph import Graph
+from .basic import superlu_minimum_degree
 
 __all__ = ["Rung", "LADDER", "escalate"]
 
@@ -101,26 +102,11 @@ def nd_seconds(graph: Graph, rates) -> float:
     return ND_FAST_PER_NLOGN * n * np.log2(n) * (1.0 + graph.indices.size / (20.0 * n)) * speed
 
 
-def _superlu_md(graph: Graph) -> np.ndarray:
-    """SciPy SuperLU's minimum degree on A + Aᵀ as an ordering in our convention (the inverse of its
-    ``perm_c``), from the factorization of an M-matrix with the graph's pattern (no pivoting)."""
-    import scipy.sparse as sp
-    from scipy.sparse.linalg import splu
-
-    W = graph.to_csr()
-    d = np.asarray(W.sum(axis=1)).ravel()
-    M = sp.csc_matrix(sp.diags(d + 1.0) - W)
-    lu = splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
-    perm = np.empty(graph.n, dtype=np.int64)
-    perm[lu.perm_c] = np.arange(graph.n)
-    return perm
-
-
 def _run(graph: Graph, rung: Rung, seed: int, extra: dict):
     from . import order
 
     if rung.method == "superlu-md":
-        return _superlu_md(graph), {}
+        return superlu_minimum_degree(graph), {}
     opts = dict(rung.options)
     if rung.method == "nd":
         opts.update({k: v for k, v in extra.items() if v is not None})

@@ -89,56 +89,13 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
             continue
         if nd["kind"] == "leaf" and len(scores) <= 1:
             continue  # the global leaf pass already used this rule
-        verts = perm[s:t]
-        W, inside = _k.with_halo(graph.indptr, graph.indices, np.ascontiguousarray(verts), mark)
-        ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, W, local)
-        g = Graph(n=W.size, indptr=ip, indices=ix, weights=None, info={})
-        hl = np.flatnonzero(~inside)
-
-        def cost(loc):
-            c = factor_column_counts(g, np.concatenate((loc, hl)))[:m].astype(np.float64)
-            return float(np.sum(c ** power)), float(np.sum(c))
-
-        best, nnz_best = float(cost_c[nid]), float(cost_z[nid])
-        best_loc, best_kind = None, ""
         stats["subtrees_tried"] += 1
-        rules = scores if m <= wide else wide_scores
         # the gate skips rules only in the full list (the wide nodes' second rule, "fill", beats
         # "degree" by over a quarter on 9-point grids: gating it there cost 3% of fill)
-        gated = gate is not None and m <= wide
-        candidates = [("mindegree", g, inside, None)]
-        if multisection and nd["kind"] == "separator":
-            pos_loc = np.searchsorted(W, verts)  # W is sorted
-            lp = np.zeros(m, dtype=bool)
-            for a, b in leaves[nid]:
-                lp[a - s:b - s] = True
-            leaf_loc, sep_loc = pos_loc[lp], pos_loc[~lp]
-            rg = multisector_graph(g, leaf_loc, sep_loc, hl)
-            if rg is not None:
-                rmask = np.zeros(rg.n, dtype=bool)
-                rmask[:sep_loc.size] = True
-                candidates.append(("multisection", rg, rmask, (leaf_loc, sep_loc)))
-        for kind, gg, mask, parts in candidates:
-            # a multisector without halo (the root) is a graph of its own: minimum degree's "auto"
-            # (every pivot rule and tie order, kept by its own exact count) joins the rules
-            extra = ("auto",) if kind == "multisection" and hl.size == 0 and len(rules) > 1 else ()
-            first = None  # cost of the first rule's order
-            for sc in tuple(rules) + extra:
-                if gated and first is not None and first > (1 + gate) * best:
-                    break  # far from winning under the first rule: the others are not tried
-                name, tie_seed = rule_seed(sc)
-                if name.startswith("exact") and nnz_best > EXACT_MAX_FILL * m:
-                    continue  # exact degrees are slow where the factor is dense (power-law graphs)
-                if name == "auto":
-                    loc = np.asarray(minimum_degree(gg, seed=seed, score="auto")[0], dtype=np.int64)
-                else:
-                    loc = np.asarray(halo_minimum_degree(gg, mask, seed=tie_seed, score=name), dtype=np.int64)
-                if parts is not None:
-                    loc = np.concatenate((parts[0], parts[1][loc]))
-                c, nz = cost(loc)
-                first = c if first is None else first
-                if c < best * (1 - 1e-12):
-                    best, nnz_best, best_loc, best_kind = c, nz, loc, kind
+        best, nnz_best, best_loc, best_kind, W = _compete(
+            graph, perm[s:t], nd, leaves[nid], float(cost_c[nid]), float(cost_z[nid]),
+            rules=scores if m <= wide else wide_scores, gate=gate if m <= wide else None,
+            multisection=multisection, power=power, seed=seed, mark=mark, local=local)
         if best_loc is None:
             continue
         cost_c[nid], cost_z[nid] = best, nnz_best
@@ -162,6 +119,61 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     if not changed:
         return nodes, stats
     return _rebuild_tree(nodes, leaves, ms_node), stats
+
+
+def _compete(graph: Graph, verts: np.ndarray, nd: dict, node_leaves, best: float, nnz_best: float, *, rules,
+             gate, multisection: bool, power: int, seed: int, mark, local):
+    """One node of the subtree choice: the halo minimum degree of its range under each rule in
+    ``rules`` (and, for separator nodes with ``multisection``, the multisection order) against the
+    current cost ``best`` (``nnz_best``: its Σ c_j). Returns ``(best, nnz_best, best_loc, best_kind,
+    W)``: ``best_loc`` (None if nothing beat the current order) indexes ``W``, the range and its
+    halo in increasing vertex order."""
+    s = nd["start"]
+    m = verts.size
+    W, inside = _k.with_halo(graph.indptr, graph.indices, np.ascontiguousarray(verts), mark)
+    ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, W, local)
+    g = Graph(n=W.size, indptr=ip, indices=ix, weights=None, info={})
+    hl = np.flatnonzero(~inside)
+
+    def cost(loc):
+        c = factor_column_counts(g, np.concatenate((loc, hl)))[:m].astype(np.float64)
+        return float(np.sum(c ** power)), float(np.sum(c))
+
+    best_loc, best_kind = None, ""
+    candidates = [("mindegree", g, inside, None)]
+    if multisection and nd["kind"] == "separator":
+        pos_loc = np.searchsorted(W, verts)  # W is sorted
+        lp = np.zeros(m, dtype=bool)
+        for a, b in node_leaves:
+            lp[a - s:b - s] = True
+        leaf_loc, sep_loc = pos_loc[lp], pos_loc[~lp]
+        rg = multisector_graph(g, leaf_loc, sep_loc, hl)
+        if rg is not None:
+            rmask = np.zeros(rg.n, dtype=bool)
+            rmask[:sep_loc.size] = True
+            candidates.append(("multisection", rg, rmask, (leaf_loc, sep_loc)))
+    for kind, gg, mask, parts in candidates:
+        # a multisector without halo (the root) is a graph of its own: minimum degree's "auto"
+        # (every pivot rule and tie order, kept by its own exact count) joins the rules
+        extra = ("auto",) if kind == "multisection" and hl.size == 0 and len(rules) > 1 else ()
+        first = None  # cost of the first rule's order
+        for sc in tuple(rules) + extra:
+            if gate is not None and first is not None and first > (1 + gate) * best:
+                break  # far from winning under the first rule: the others are not tried
+            name, tie_seed = rule_seed(sc)
+            if name.startswith("exact") and nnz_best > EXACT_MAX_FILL * m:
+                continue  # exact degrees are slow where the factor is dense (power-law graphs)
+            if name == "auto":
+                loc = np.asarray(minimum_degree(gg, seed=seed, score="auto")[0], dtype=np.int64)
+            else:
+                loc = np.asarray(halo_minimum_degree(gg, mask, seed=tie_seed, score=name), dtype=np.int64)
+            if parts is not None:
+                loc = np.concatenate((parts[0], parts[1][loc]))
+            c, nz = cost(loc)
+            first = c if first is None else first
+            if c < best * (1 - 1e-12):
+                best, nnz_best, best_loc, best_kind = c, nz, loc, kind
+    return best, nnz_best, best_loc, best_kind, W
 
 
 def _rebuild_tree(nodes: list[dict], leaves, ms_node) -> list[dict]:
