@@ -120,3 +120,31 @@ def test_apply_keeps_symmetric_storage_and_writes_harwell_boeing(capsys, tmp_pat
     assert main(["apply", str(tmp_path / "a.mtx"), str(tmp_path / "p.txt"), "-o", str(tmp_path / "c.mtx"),
                  "--both-triangles"]) == 0
     assert scipy.io.mminfo(str(tmp_path / "c.mtx"))[2] == A.nnz
+
+
+def test_demo_cases_are_fixed_and_the_winner_lines_follow_the_numbers(tmp_path):
+    # the demo's matrices come from a fixed table checked against the manifest's sizes (not from
+    # timings); the winner per class is the smallest geometric mean of operations relative to the
+    # best, worked out by hand below
+    from reorder import bundled, demo
+
+    groups = demo.demo_inputs(tmp_path)
+    sizes = {e["name"]: e["n"] for e in bundled.manifest()}
+    assert list(groups) == ["2-D meshes", "3-D meshes", "graphs"]
+    for cls, mats in groups.items():
+        assert list(mats) == list(demo.DEMO_MATRICES[cls])
+        assert all(1000 <= sizes[m] <= 3000 for m in mats)
+    assert demo.demo_inputs(tmp_path / "other") == groups  # the same set wherever it runs
+
+    def row(m, s, ops, secs=0.1):
+        return {"matrix": m, "method": s, "status": "ok", "factor_ops": ops, "nnz_factor": ops // 10,
+                "order_seconds": secs}
+
+    rows = [row("p", "natural", 1), row("p", "rcm", 400), row("p", "nd", 100), row("p", "mindegree", 120),
+            row("q", "natural", 1), row("q", "rcm", 400), row("q", "nd", 150), row("q", "mindegree", 100),
+            row("g", "natural", 1), row("g", "rcm", 90), row("g", "nd", 100, 2.0), row("g", "mindegree", 90, 0.5)]
+    lines = demo.class_winners(rows, {"p": "2-D", "q": "2-D", "g": "graphs"})
+    # 2-D: nd (1.0 · 1.5)^½ = 1.22, mindegree (1.2 · 1.0)^½ = 1.10 -> mindegree; natural is a reference
+    assert lines[0].startswith("2-D: mindegree, operations 0.27x")  # (120/400 · 100/400)^½ = 0.274
+    # graphs: rcm and mindegree tie at 90 operations, rcm is quicker (0.1 s against 0.5 s)
+    assert lines[1].startswith("graphs: rcm, ordering 0.1 s")

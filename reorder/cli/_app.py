@@ -83,28 +83,6 @@ def _check_method(name: str | None) -> str:
     return name
 
 
-EFFORT_HELP = ("nd (and auto's nd candidate): fast, normal (default) or best; fast suits a single factorization. "
-               "Same as NAME:effort=VALUE in a method spec.")
-
-
-def _default_method() -> str:
-    """The default ordering (kept for commands written before the settings records)."""
-    from ..orderings import DEFAULT_METHOD
-
-    return DEFAULT_METHOD
-
-
-def _effort_option(effort: str | None, method: str) -> dict:
-    """``{"effort": effort}`` checked by the settings records (InputError for a bad value or a method
-    without that setting); ``{}`` when not given. Kept for ``solve``/``sweep``."""
-    if effort is None:
-        return {}
-    from ..orderings import resolve
-
-    resolve(method, {"effort": effort})
-    return {"effort": effort}
-
-
 def _compiled(method: str) -> None:
     """Compile the kernels of ``method`` first if the cache is cold (saying so on stderr), so that the
     ordering time printed afterwards is not compilation time."""
