@@ -111,7 +111,7 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
     methods = list(available() if methods is None else methods)
     modules = {"symbolic"}
     for m in methods:
-        modules.update(_KERNELS.get(m, kernels.MODULES))
+        modules.update(_KERNELS.get(str(m).split(":", 1)[0], kernels.MODULES))  # a spec NAME:OPTION=VALUE
     cold = kernels.cache_is_cold(tuple(k for k in kernels.MODULES if k in modules))
     if not cold and not load:
         return False
@@ -130,7 +130,7 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
             helper = None
     if helper is not None:
         try:
-            warm([m for m in ("natural", "rcm", "spectral") if m in methods])
+            warm([m for m in ("natural", "rcm", "spectral") if m in methods])  # their kernels, meanwhile
             if "separators" in modules:
                 _compile_separators()
         except Exception:

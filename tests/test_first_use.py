@@ -148,3 +148,15 @@ def test_demo_cases_are_fixed_and_the_winner_lines_follow_the_numbers(tmp_path):
     assert lines[0].startswith("2-D: mindegree, operations 0.27x")  # (120/400 · 100/400)^½ = 0.274
     # graphs: rcm and mindegree tie at 90 operations, rcm is quicker (0.1 s against 0.5 s)
     assert lines[1].startswith("graphs: rcm, ordering 0.1 s")
+
+
+def test_every_subpackage_is_installed_by_pyproject():
+    # `pip install .` (not editable) installs only the packages pyproject lists: a missing subpackage
+    # broke nd after installation while the editable checkout passed every test (measured, issue 17)
+    import tomllib
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    listed = set(tomllib.loads((root / "pyproject.toml").read_text())["tool"]["setuptools"]["packages"])
+    found = {".".join(p.parent.relative_to(root).parts) for p in (root / "reorder").rglob("__init__.py")}
+    assert found <= listed, sorted(found - listed)

@@ -39,6 +39,34 @@ app = typer.Typer(
 )
 
 
+def _plain_argument_names() -> None:
+    """Show positional arguments the usual way: ``MATRIX`` / ``MATRIX...`` in the usage line and the
+    help, instead of this Typer's ``{matrix}`` and ``matrix <path>`` / ``<list[Path]>`` labels.
+
+    Only the help text changes; a Typer without these hooks is left as it is.
+    """
+    try:
+        from typer.core import TyperArgument
+    except ImportError:  # pragma: no cover - other Typer versions
+        return
+    if not (hasattr(TyperArgument, "_usage_display_name") and hasattr(TyperArgument, "display_type_rich")):
+        return
+
+    def name(self) -> str:
+        text = (self.metavar or (self.name or "").upper()).rstrip(".")
+        return text + ("..." if self.nargs != 1 else "")
+
+    def usage(self) -> str:
+        return name(self) if self.required else f"[{name(self)}]"
+
+    TyperArgument._usage_display_name = usage
+    TyperArgument._rich_display_name = name
+    TyperArgument.display_type_rich = lambda self, ctx: None
+
+
+_plain_argument_names()
+
+
 class _Fail(Exception):
     """Internal: abort a command with a one-line message and exit code 2."""
 

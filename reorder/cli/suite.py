@@ -62,7 +62,7 @@ def examples_cmd(
 # ------------------------------------------------------------------------------------------------
 @app.command("compare")
 def compare_cmd(
-    inputs: List[Path] = typer.Argument(..., metavar="MATRIX...",
+    inputs: List[Path] = typer.Argument(..., metavar="MATRIX",
                                         help="Matrix files, folders of matrix files, or bundled:NAME (see `reorder examples`)."),
     methods: Optional[str] = typer.Option(None, "--methods", metavar="LIST",
                                           help="Comma-separated ordering names or method specs NAME:OPTION=VALUE (e.g. nd:effort=fast).  [default: all, see `reorder methods`]"),
