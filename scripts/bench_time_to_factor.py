@@ -45,7 +45,7 @@ from scipy.sparse.linalg import splu
 import reorder
 from reorder import gallery
 from reorder.analysis import symbolic_factor
-from reorder.cost import factor_counts, machine_rates, predict_seconds
+from reorder.cost import factor_counts, machine_rates, predict_seconds  # noqa: F401
 from reorder.graph import from_matrix
 
 TARGET_KINDS = ("grid2d", "grid3d", "fem2d", "fem3d")
@@ -199,7 +199,10 @@ def run_degenerate(args):
 
 def run_cliffs(args):
     out = {}
-    for label, dims in (("2d", [(k, k) for k in _steps(200, 1000, 2)]), ("3d", [(k, k, k) for k in _steps(20, 60, 3)])):
+    lo2, hi2 = (int(x) for x in args.cliff_2d.split(","))
+    lo3, hi3 = (int(x) for x in args.cliff_3d.split(","))
+    for label, dims in (("2d", [(k, k) for k in _steps(lo2, hi2, 2)] if hi2 else []),
+                        ("3d", [(k, k, k) for k in _steps(lo3, hi3, 3)] if hi3 else [])):
         rows = []
         for d in dims:
             A = grid(d)
@@ -213,7 +216,8 @@ def run_cliffs(args):
                   f"{rows[-1]['us_per_nlogn']:.3f} us/(n log2 n)", flush=True)
         jumps = [b["us_per_nlogn"] / a["us_per_nlogn"] for a, b in zip(rows, rows[1:])]
         out[label] = {"rows": rows, "max_jump": max(jumps) if jumps else None}
-        print(f"cliff {label}: largest step {out[label]['max_jump']:.2f}x", flush=True)
+        if jumps:
+            print(f"cliff {label}: largest step {max(jumps):.2f}x", flush=True)
     return out
 
 
@@ -240,12 +244,18 @@ def main():
     ap.add_argument("--cliffs", action="store_true")
     ap.add_argument("--degenerate", action="store_true", help="every method on diagonal / dense-row / star matrices")
     ap.add_argument("--cliff-method", default="nd")
+    ap.add_argument("--cliff-2d", default="200,1000", help="smallest,largest side of the 2-D grids (largest 0: none)")
+    ap.add_argument("--cliff-3d", default="20,60", help="smallest,largest side of the 3-D grids (largest 0: none)")
     ap.add_argument("--out", default=str(Path(__file__).parent / "results" / "bench_time_to_factor.json"))
     args = ap.parse_args()
     args.grids = [int(x) for x in args.grids.split(",") if x.strip()]
     methods = ["default"] + [m for m in args.methods.split(",") if m]
     warm_up(methods)
-    rates = machine_rates()
+    # this run's rates, measured now: the cached ones may come from a quieter or busier hour
+    from reorder import cost
+
+    rates = cost.calibrate()
+    cost._RATES = rates  # auto prices its candidates with them too (the cache file is left alone)
     print(f"rates ({rates.source}): {rates}", flush=True)
     result = {"rates": {k: (float(v) if not isinstance(v, str) else v) for k, v in rates.__dict__.items()},
               "repeat": args.repeat}
