@@ -214,7 +214,9 @@ def run_cliffs(args):
             rows.append({"dims": list(d), "n": n, "seconds": t, "us_per_nlogn": 1e6 * t / (n * math.log2(n))})
             print(f"cliff {args.cliff_method} {'x'.join(map(str, d)):>12s} n={n:8d} {t:7.2f}s "
                   f"{rows[-1]['us_per_nlogn']:.3f} us/(n log2 n)", flush=True)
-        jumps = [b["us_per_nlogn"] / a["us_per_nlogn"] for a, b in zip(rows, rows[1:])]
+        # a cliff either way: the larger of the two ratios between neighbouring sizes
+        jumps = [max(b["us_per_nlogn"] / a["us_per_nlogn"], a["us_per_nlogn"] / b["us_per_nlogn"])
+                 for a, b in zip(rows, rows[1:])]
         out[label] = {"rows": rows, "max_jump": max(jumps) if jumps else None}
         if jumps:
             print(f"cliff {label}: largest step {max(jumps):.2f}x", flush=True)
