@@ -185,6 +185,10 @@ def _child(path: str) -> int:
     from reorder.io import read_matrix
     from reorder.orderings import order
 
+    if path.endswith(".selftest-crash"):  # --self-test: the harness must see these
+        os.kill(os.getpid(), signal.SIGSEGV)
+    if path.endswith(".selftest-hang"):
+        time.sleep(3600)
     try:
         import warnings
 
@@ -204,33 +208,116 @@ def _child(path: str) -> int:
         return 3
 
 
-def run_case(path: str, timeout: float):
-    t0 = time.perf_counter()
+def _spawn_batch(batch) -> tuple[int, int]:
+    """Fork a child that reads the cases of ``batch`` ([(key, path)]) one after another and reports
+    "start KEY" / "end KEY CODE" lines on a pipe; returns (pid, read end)."""
+    r, w = os.pipe()
     pid = os.fork()
     if pid == 0:  # child
-        code = 3
         try:
+            os.close(r)
             devnull = os.open(os.devnull, os.O_WRONLY)
             os.dup2(devnull, 1)
-            code = _child(path)
+            for key, path in batch:
+                os.write(w, f"start {key}\n".encode())
+                code = _child(path)
+                os.write(w, f"end {key} {code}\n".encode())
         finally:
-            os._exit(code)
-    deadline = t0 + timeout
-    while True:
-        wpid, status, usage = os.wait4(pid, os.WNOHANG)
-        if wpid:
-            break
-        if time.perf_counter() > deadline:
-            os.kill(pid, signal.SIGKILL)
-            os.wait4(pid, 0)
-            return "hang", time.perf_counter() - t0, 0
-        time.sleep(0.002)
-    secs = time.perf_counter() - t0
-    rss = usage.ru_maxrss * 1024
+            os._exit(0)
+    os.close(w)
+    os.set_blocking(r, False)
+    return pid, r
+
+
+def _classify(status) -> str:
     if os.WIFSIGNALED(status):
-        return f"crash (signal {os.WTERMSIG(status)})", secs, rss
-    code = os.WEXITSTATUS(status)
-    return {0: "accepted", 2: "refused", 4: "memory"}.get(code, "error"), secs, rss
+        return f"crash (signal {os.WTERMSIG(status)})"
+    return "error"  # the child itself failed outside a case
+
+
+_OUTCOME = {0: "accepted", 2: "refused", 4: "memory"}
+
+
+def run_cases(jobs, timeout: float, parallel: int, on_done, batch_size: int = 25):
+    """Run ``jobs`` (iterable of (key, path)) in forked children, a batch of cases per child and
+    ``parallel`` children at a time; ``on_done(key, outcome, seconds, peak_rss)`` for each case.
+
+    A child that dies (signal) or stalls (a case over ``timeout`` s) marks the case it was reading
+    as a crash or a hang; the rest of its batch is run again in a new child. Forking once per batch
+    keeps the cost of a case near that of reading it (a fork of this process takes ~40 ms)."""
+    jobs = iter(jobs)
+    pending: list = []
+    running = {}  # pid -> dict(fd, batch, done, current, t0, buf)
+    exhausted = False
+
+    def next_batch():
+        nonlocal exhausted
+        batch = pending[:batch_size]
+        del pending[:batch_size]
+        while not exhausted and len(batch) < batch_size:
+            try:
+                batch.append(next(jobs))
+            except StopIteration:
+                exhausted = True
+        return batch
+
+    def drain(st):
+        try:
+            while True:
+                chunk = os.read(st["fd"], 65536)
+                if not chunk:
+                    break
+                st["buf"] += chunk
+        except BlockingIOError:
+            pass
+        *lines, st["buf"] = st["buf"].split(b"\n")
+        for line in lines:
+            parts = line.decode().split()
+            if parts[0] == "start":
+                st["current"], st["t0"] = int(parts[1]), time.perf_counter()
+            else:
+                key, code = int(parts[1]), int(parts[2])
+                st["done"].add(key)
+                st["current"] = None
+                on_done(key, _OUTCOME.get(code, "error"), time.perf_counter() - st["t0"], 0)
+
+    while True:
+        while len(running) < parallel:
+            batch = next_batch()
+            if not batch:
+                break
+            pid, fd = _spawn_batch(batch)
+            running[pid] = {"fd": fd, "batch": batch, "done": set(), "current": None,
+                            "t0": time.perf_counter(), "buf": b""}
+        if not running:
+            break
+        pid, status, usage = os.wait4(-1, os.WNOHANG)
+        now = time.perf_counter()
+        for p, st in list(running.items()):
+            drain(st)
+            if p != pid and st["current"] is not None and now - st["t0"] > timeout:
+                os.kill(p, signal.SIGKILL)
+                os.wait4(p, 0)
+                drain(st)
+                _finish(p, st, "hang", 0, running, pending, on_done)
+        if pid and pid in running:
+            st = running[pid]
+            drain(st)
+            failed = _classify(status) if not (os.WIFEXITED(status) and os.WEXITSTATUS(status) == 0) else None
+            _finish(pid, st, failed, usage.ru_maxrss * 1024, running, pending, on_done)
+        elif not pid:
+            time.sleep(0.002)
+
+
+def _finish(pid, st, failed, rss, running, pending, on_done):
+    del running[pid]
+    os.close(st["fd"])
+    run_cases.peak = max(getattr(run_cases, "peak", 0), rss)
+    if failed is not None and st["current"] is not None:
+        on_done(st["current"], failed, time.perf_counter() - st["t0"], rss)
+        st["done"].add(st["current"])
+    rest = [(k, p) for k, p in st["batch"] if k not in st["done"]]
+    pending[:0] = rest
 
 
 def warm_up():
@@ -241,6 +328,14 @@ def warm_up():
 
     g = from_matrix(_plate())
     symbolic_factor(g, order(g, "rcm").perm)
+    # import (but do not run) every reader, so a child only forks; SciPy's Matrix Market parser
+    # starts its threads at the first read, which happens in the children only
+    import scipy.io._fast_matrix_market  # noqa: F401
+    import scipy.io._harwell_boeing.hb  # noqa: F401
+
+    import reorder.io.hb  # noqa: F401
+    import reorder.io.npz  # noqa: F401
+    import reorder.io.readers  # noqa: F401
 
 
 def main(argv=None) -> int:
@@ -248,6 +343,9 @@ def main(argv=None) -> int:
     ap.add_argument("--cases", type=int, default=3000)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--timeout", type=float, default=20.0)
+    ap.add_argument("--parallel", type=int, default=2, help="children at a time")
+    ap.add_argument("--self-test", action="store_true",
+                    help="add one case that crashes and one that hangs; succeed only if both are caught")
     ap.add_argument("--no-json", action="store_true", help="do not write scripts/results/fuzz_intake.json")
     ap.add_argument("--keep", type=Path, default=None, help="copy failing cases to this folder")
     args = ap.parse_args(argv)
@@ -260,15 +358,30 @@ def main(argv=None) -> int:
     worst_rss, worst_secs = 0, 0.0
     t_all = time.perf_counter()
     with tempfile.TemporaryDirectory(prefix="reorder-fuzz-") as d:
-        for i in range(args.cases):
-            name, data = base[i % len(base)]
-            case = mutate(name, data, rng)
-            path = os.path.join(d, f"case{i}_{name}")
-            with open(path, "wb") as fh:
-                fh.write(case)
-            outcome, secs, rss = run_case(path, args.timeout)
+        cases = {}
+
+        def jobs():
+            for i in range(args.cases):
+                name, data = base[i % len(base)]
+                case = mutate(name, data, rng)
+                path = os.path.join(d, f"case{i}_{name}")
+                with open(path, "wb") as fh:
+                    fh.write(case)
+                cases[i] = (name, path)
+                yield i, path
+            if args.self_test:
+                for j, kind in ((args.cases, "crash"), (args.cases + 1, "hang")):
+                    path = os.path.join(d, f"case{j}.selftest-{kind}")
+                    Path(path).write_bytes(b"")
+                    cases[j] = (f"selftest-{kind}", path)
+                    yield j, path
+
+        def done(i, outcome, secs, rss):
+            nonlocal worst_rss, worst_secs
+            name, path = cases.pop(i)
             counts[outcome] = counts.get(outcome, 0) + 1
             fam = name.rsplit(".", 1)[-1] if not name.endswith(".gz") else "gz"
+            fam = name if name.startswith("selftest") else fam
             by_format.setdefault(fam, {}).setdefault(outcome, 0)
             by_format[fam][outcome] += 1
             worst_rss, worst_secs = max(worst_rss, rss), max(worst_secs, secs)
@@ -276,8 +389,11 @@ def main(argv=None) -> int:
                 failures.append({"case": i, "seed_file": name, "outcome": outcome})
                 if args.keep:
                     args.keep.mkdir(parents=True, exist_ok=True)
-                    (args.keep / os.path.basename(path)).write_bytes(case)
+                    (args.keep / os.path.basename(path)).write_bytes(Path(path).read_bytes())
             os.unlink(path)
+
+        run_cases(jobs(), args.timeout, args.parallel, done)
+        worst_rss = max(worst_rss, getattr(run_cases, "peak", 0))
     total = time.perf_counter() - t_all
     crashes = sum(v for k, v in counts.items() if k.startswith("crash"))
     print(f"fuzz_intake: {args.cases} cases, seed {args.seed}, {total:.1f} s")
@@ -296,6 +412,11 @@ def main(argv=None) -> int:
                                    "slowest_case_s": round(worst_secs, 3),
                                    "max_child_rss_mib": round(worst_rss / 2**20, 1)}, indent=1) + "\n")
     bad = crashes + counts.get("error", 0) + counts.get("hang", 0) + counts.get("memory", 0)
+    if args.self_test:
+        caught = (by_format.get("selftest-crash", {}).get("crash (signal 11)") == 1
+                  and by_format.get("selftest-hang", {}).get("hang") == 1)
+        print(f"  self-test: the planted crash and hang were {'caught' if caught else 'MISSED'}")
+        return 0 if caught and bad == 2 else 1
     return 1 if bad else 0
 
 

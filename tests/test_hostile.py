@@ -479,9 +479,12 @@ def test_raw_binary_bytes_escaped_in_message(tmp_path, capsys):
 
 def test_fuzz_subset_no_crash():
     # the fast subset of scripts/fuzz_intake.py: seeded mutations of valid files in the three
-    # formats, each read in a forked child so that a crash is seen as a crash
+    # formats, read in forked children so that a crash is seen as a crash. --self-test plants one
+    # case that segfaults and one that hangs: the run passes only if exactly those two are caught,
+    # so the harness itself is shown able to fail
     script = Path(__file__).resolve().parents[1] / "scripts" / "fuzz_intake.py"
-    p = subprocess.run([sys.executable, str(script), "--cases", "300", "--seed", "7", "--no-json"],
-                       capture_output=True, text=True, timeout=120)
+    p = subprocess.run([sys.executable, str(script), "--cases", "300", "--seed", "7", "--no-json", "--self-test",
+                        "--timeout", "5"], capture_output=True, text=True, timeout=180)
     assert p.returncode == 0, p.stdout[-2000:] + p.stderr[-2000:]
-    assert "crashes 0" in p.stdout
+    assert "crashes 1, errors 0, hangs 1" in p.stdout
+    assert "the planted crash and hang were caught" in p.stdout

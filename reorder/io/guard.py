@@ -32,10 +32,12 @@ BODY_SLACK = 1 << 20
 SPARSE_ROWS_MIN = 1 << 22
 SPARSE_RATIO = 8
 
-# Peak bytes per row and per stored entry (both triangles) of the costliest step a command runs on
-# a matrix: reading (COO triplets, CSR), the graph, an ordering and the symbolic analysis. Measured
-# with scripts/bench_intake.py (tracemalloc peak over every method on 2-D/3-D meshes, fitted per
-# row and per entry, max over methods) and rounded up; see DEVELOPERS.md.
+# Peak bytes per row and per stored entry (both triangles) of what a command does with a matrix:
+# reading (COO triplets from the parser, CSR, duplicates summed: about 60 B/entry) plus the graph, the
+# costliest ordering and the symbolic analysis. `scripts/bench_intake.py --memory` fits the peak RSS
+# growth of graph + ordering + analysis as a*rows + b*entries on a diagonal and on 7- and 27-point
+# 3-D meshes of 64 000 rows: at most about 440 B/row (nd, auto) and 58 B/entry (spectral); with
+# the reading cost and some margin, 600 and 120.
 BYTES_PER_ROW = 600
 BYTES_PER_STORED = 120
 #: Fraction of the available memory a matrix may be planned to use.
