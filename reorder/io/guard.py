@@ -36,10 +36,10 @@ SPARSE_RATIO = 8
 # reading (COO triplets from the parser, CSR, duplicates summed: about 60 B/entry) plus the graph, the
 # costliest ordering and the symbolic analysis. `scripts/bench_intake.py --memory` fits the peak RSS
 # growth of graph + ordering + analysis as a*rows + b*entries on a diagonal and on 7- and 27-point
-# 3-D meshes of 64 000 rows: at most about 440 B/row (nd, auto) and 58 B/entry (spectral); with
-# the reading cost and some margin, 600 and 120.
+# 3-D meshes of 64 000 rows: at most about 440 B/row (nd, auto) and 70 B/entry (rsb); with the
+# reading cost and some margin, 600 and 140.
 BYTES_PER_ROW = 600
-BYTES_PER_STORED = 120
+BYTES_PER_STORED = 140
 #: Fraction of the available memory a matrix may be planned to use.
 MEMORY_MARGIN = 0.8
 
