@@ -103,16 +103,21 @@ def _saddle(nk=60, nb=12, seed=0):
     return sp.bmat([[K, Bm.T], [Bm, None]]).tocsr()
 
 
-@pytest.mark.parametrize("kind", ["saddle", "zero_diagonal", "nonsymmetric"])
+@pytest.mark.parametrize("kind", ["saddle", "zero_diagonal", "nonsymmetric", "negative_pivot"])
 def test_not_spd_falls_back_with_warning(kind):
     if kind == "saddle":
         A = _saddle()  # indefinite, zero block on the diagonal (textbook)
     elif kind == "zero_diagonal":
         A = sp.csr_matrix(grid2d(8) + sp.diags(np.r_[-4.0, np.zeros(63)]))  # a_00 = 0 (not stored)
-    else:
+    elif kind == "nonsymmetric":
         A = grid2d(8).tolil()
         A[0, 1] = -3.0  # values no longer symmetric
         A = A.tocsr()
+    else:  # positive diagonal, symmetric, indefinite: [[4, -5], [-5, 4]] has eigenvalues -1 and 9
+        A = grid2d(8).tolil()
+        A[0, 1] = A[1, 0] = -5.0
+        A = A.tocsr()
+        assert np.linalg.eigvalsh(A.toarray()).min() < 0  # reference: NumPy's symmetric eigensolver
     b = np.random.default_rng(4).standard_normal(A.shape[0])
     with pytest.warns(PivotingWarning) as rec:
         F = OrderedFactor(A, "nd")
@@ -254,3 +259,15 @@ def test_readme_section_is_executed():
     import reorder
 
     assert reorder.OrderedFactor.__name__ == "OrderedFactor" and callable(reorder.solve_sequence)
+
+
+def test_spd_not_diagonally_dominant_reads_the_pivots():
+    # G^T G + I is SPD (textbook) but not diagonally dominant: the pivots are read from U, all positive
+    G = sp.random(80, 60, density=0.08, random_state=np.random.default_rng(3))
+    A = (G.T @ G + sp.identity(60)).tocsr()
+    F = OrderedFactor(A, "mindegree", factor=False)
+    assert not F._dominant(A)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", PivotingWarning)
+        x = F.factor(A).solve(np.ones(60))
+    assert _rel(x, np.linalg.solve(A.toarray(), np.ones(60))) < 1e-10  # reference: NumPy dense LU
