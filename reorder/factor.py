@@ -59,23 +59,20 @@ def _canonical(A, what: str = "matrix") -> sp.csr_matrix:
 
 
 def _order(graph, method: str, seed: int, factorizations, options: dict):
-    """(perm, seconds, info): ``auto`` is the cost-aware search priced by ``factorizations`` when the
-    escalation module is there and no option asks for the exhaustive portfolio; else the registry."""
+    """(perm, seconds, info). ``auto`` is told how many factorizations follow (its cost-aware search
+    pays for a costlier ordering only while the predicted saving over them exceeds the cost); the
+    machine rates of the cost model are measured (once per machine, cached) before the clock."""
     from .orderings import order
 
-    if method == "auto" and not options:
+    if method.split(":", 1)[0] == "auto":
+        if "factorizations=" not in method and "factorizations" not in options:
+            options = {"factorizations": 1.0 if factorizations is None else float(factorizations), **options}
         try:
             from .cost import machine_rates
-            from .orderings.escalation import escalate
-        except ImportError:  # pragma: no cover - an installation without the cost model
-            escalate = None
-        if escalate is not None:
-            rates = machine_rates()  # measured once per machine and cached; not ordering time
-            t0 = time.perf_counter()
-            perm, info = escalate(graph, factorizations=1.0 if factorizations is None else factorizations,
-                                  seed=seed, rates=rates)
-            seconds = time.perf_counter() - t0
-            return check_permutation(perm, graph.n), seconds, dict(info)
+
+            machine_rates()
+        except Exception:  # the cost model falls back to its defaults by itself
+            pass
     res = order(graph, method, seed=seed, **options)
     return res.perm, res.seconds, dict(res.info)
 
