@@ -188,7 +188,8 @@ def plot_spy(stem, name: str, matrix, perms: dict, *, bins: int = 200) -> list[P
 # --------------------------------------------------------------------------------------------------
 # relative measures and performance profiles
 # --------------------------------------------------------------------------------------------------
-def _table(rows, matrices, methods, key):
+def metric_table(rows, matrices, methods, key: str) -> np.ndarray:
+    """``(len(matrices), len(methods))`` array of ``row[key]``; NaN where missing or failed."""
     idx = {(r["matrix"], r["method"]): r for r in rows}
     out = np.full((len(matrices), len(methods)), np.nan)
     for i, m in enumerate(matrices):
@@ -211,7 +212,7 @@ def plot_relative(stem, rows, key: str = "nnz_factor", baseline: str = "rcm") ->
     matrices, methods = _unique(rows, "matrix"), _compared(rows)
     if baseline not in methods:
         baseline = methods[0]
-    vals = _table(rows, matrices, methods, key)
+    vals = metric_table(rows, matrices, methods, key)
     base = vals[:, methods.index(baseline)][:, None]
     with np.errstate(divide="ignore", invalid="ignore"):
         rel = vals / base
@@ -284,7 +285,7 @@ def plot_profiles(stem, rows, keys=None) -> list[Path]:
     axes = fig.subplots(1, len(keys), squeeze=False)
     colours = [f"C{j % 10}" for j in range(len(methods))]
     for ax, key in zip(axes[0], keys):
-        vals = _table(rows, matrices, methods, key)
+        vals = metric_table(rows, matrices, methods, key)
         if key.endswith("_seconds"):
             vals = np.maximum(vals, 1e-6)  # clock resolution: a zero time would make every ratio infinite
         taus = profile_breakpoints(vals)

@@ -18,7 +18,7 @@ import numpy as np
 
 from .io import atomic_path
 from .jsonable import jsonable as _jsonable
-from .plots import REFERENCES, plot_profiles, plot_relative, plot_spy, profile_problems
+from .plots import REFERENCES, _ok, metric_table, plot_profiles, plot_relative, plot_spy, profile_problems
 
 __all__ = [
     "COLUMNS",
@@ -162,10 +162,6 @@ def profile_breakpoints(values) -> np.ndarray:
 # --------------------------------------------------------------------------------------------------
 # tables
 # --------------------------------------------------------------------------------------------------
-def _ok(row) -> bool:
-    return row.get("status") == "ok"
-
-
 def _matrices(rows) -> list[str]:
     seen: dict[str, None] = {}
     for r in rows:
@@ -178,18 +174,6 @@ def _methods(rows) -> list[str]:
     for r in rows:
         seen.setdefault(r["method"], None)
     return list(seen)
-
-
-def metric_table(rows, matrices, methods, key: str) -> np.ndarray:
-    """``(len(matrices), len(methods))`` array of ``row[key]``; NaN where missing or failed."""
-    idx = {(r["matrix"], r["method"]): r for r in rows}
-    out = np.full((len(matrices), len(methods)), np.nan)
-    for i, m in enumerate(matrices):
-        for j, s in enumerate(methods):
-            r = idx.get((m, s))
-            if r is not None and _ok(r) and r.get(key) is not None:
-                out[i, j] = float(r[key])
-    return out
 
 
 def best_methods(rows, key: str = "nnz_factor") -> dict[str, list[str]]:
