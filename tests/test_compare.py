@@ -15,6 +15,7 @@ import scipy.sparse as sp
 from scipy.sparse.linalg import splu
 
 import reorder.compare as C
+import reorder.compare.executors as executors
 from reorder.errors import InputError
 from reorder.gallery import grid2d, m_matrix
 from reorder.io import read_matrix, read_permutation, write_matrix
@@ -143,12 +144,12 @@ def test_resume_after_interrupt_gives_same_results(serial, suite, tmp_path, monk
             raise KeyboardInterrupt  # Ctrl-C in the middle of the fifth case
         return real(case)
 
-    monkeypatch.setattr(C, "run_case", dying)
+    monkeypatch.setattr(executors, "run_case", dying)  # the serial executor's run_case
     with pytest.raises(KeyboardInterrupt):
         C.run_compare([suite], METHODS, out, factor=True)
     assert len((out / "cases.jsonl").read_text().splitlines()) == 4  # the finished cases are kept
     assert not (out / "results.csv").exists()
-    monkeypatch.setattr(C, "run_case", real)
+    monkeypatch.setattr(executors, "run_case", real)
     res = C.run_compare([suite], METHODS, out, factor=True, resume=True)
     assert res.reused == 4 and res.ran == 4 * len(METHODS) - 4
     assert _read_csv(out / "results.csv") == _read_csv(full / "results.csv")
