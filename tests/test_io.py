@@ -69,6 +69,20 @@ def test_gzip_matches_scipy(tmp_path):
     assert matrix_name(gz) == "r"
 
 
+@pytest.mark.filterwarnings("error::pytest.PytestUnraisableExceptionWarning")
+def test_gzip_reader_closes_the_file(tmp_path):
+    # closing a gzip stream does not close the file under it (Python's gzip docs): the reader must
+    import gc
+    import warnings
+
+    gz = tmp_path / "r.mtx.gz"
+    gz.write_bytes(gzip.compress(b"%%MatrixMarket matrix coordinate real general\n2 2 2\n1 1 1\n2 2 1\n"))
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ResourceWarning)
+        read_matrix(gz)
+        gc.collect()  # an unclosed file would warn here
+
+
 def test_harwell_boeing_and_npz(tmp_path):
     A = sp.csr_matrix(grid2d(4))
     hb = tmp_path / "g.rua"

@@ -116,6 +116,7 @@ def _mm_stream(path, *, max_memory=None):
     ``(header tuple, CheckedStream positioned at a canonical header followed by the body)``."""
     raw, source = open_input(path)
     own = raw is not sys.stdin.buffer
+    handle = raw  # closing a GzipFile does not close the file it reads from
     try:
         if raw.peek(2)[:2] == b"\x1f\x8b":  # gzip, whatever the name says
             raw = gzip.GzipFile(fileobj=raw, mode="rb")
@@ -129,8 +130,10 @@ def _mm_stream(path, *, max_memory=None):
         body.total = len(rest)
         yield hdr, body
     finally:
-        if own:
+        if raw is not handle:
             raw.close()
+        if own:
+            handle.close()
 
 
 def _read_mm(path, *, max_memory=None):
