@@ -14,14 +14,16 @@ from __future__ import annotations
 import os
 import subprocess
 import sys
+import time
 
-__all__ = ["ensure_compiled", "warm", "COMPILING_MESSAGE"]
+__all__ = ["ensure_compiled", "warm", "compile_seconds", "COMPILING_MESSAGE"]
 
 #: What the command line prints (once) before a cold compilation.
 COMPILING_MESSAGE = "compiling kernels, first run only (about half a minute; the code is cached for later runs)"
 
 #: Kernel modules each built-in method uses (the symbolic analysis adds ``symbolic``); other
-#: methods are assumed to use them all.
+#: methods are assumed to use them all. ``auto`` needs minimum degree for its cheap start; the
+#: search compiles what a costlier candidate needs before it runs it (outside the ordering time).
 _KERNELS = {
     "natural": (),
     "rcm": (),
@@ -30,11 +32,19 @@ _KERNELS = {
     "nd": ("traversal", "separators", "mindegree"),
     "nd-fast": ("traversal", "separators", "mindegree"),
     "rsb": ("traversal", "separators", "mindegree"),
-    "auto": ("traversal", "separators", "mindegree", "envelope"),
+    "auto": ("mindegree",),
 }
 
 _WARM: set = set()
 _ANNOUNCED = False
+_READY: set = set()  # kernel modules known to be compiled (checked or built in this process)
+_SPENT = [0.0]  # seconds spent compiling in ensure_compiled, in this process
+
+
+def compile_seconds() -> float:
+    """Seconds this process has spent in compilations started by :func:`ensure_compiled`; an
+    ordering's clock subtracts what it grew by while the ordering ran."""
+    return _SPENT[0]
 
 
 def _grid(k: int):
@@ -73,6 +83,16 @@ def warm(methods=None, *, seed: int = 0) -> None:
         _WARM.add(m)
 
 
+def _compile_symbolic() -> None:
+    """The symbolic-analysis kernels alone."""
+    import numpy as np
+
+    from .analysis import symbolic_factor
+
+    g = _grid(_SIZES[0])
+    symbolic_factor(g, np.arange(g.n))
+
+
 def _compile_separators() -> None:
     """The separator kernels alone (no minimum degree): one multilevel vertex separator."""
     from .separators import check_separator, vertex_separator
@@ -104,7 +124,6 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
     bool
         True if the cache was cold (a compilation took place).
     """
-    global _ANNOUNCED
     from . import kernels
     from .orderings import available
 
@@ -112,9 +131,24 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
     modules = {"symbolic"}
     for m in methods:
         modules.update(_KERNELS.get(str(m).split(":", 1)[0], kernels.MODULES))  # a spec NAME:OPTION=VALUE
-    cold = kernels.cache_is_cold(tuple(k for k in kernels.MODULES if k in modules))
+    needed = tuple(k for k in kernels.MODULES if k in modules and k not in _READY)
+    cold = bool(needed) and kernels.cache_is_cold(needed)
     if not cold and not load:
+        _READY.update(needed)
         return False
+    t0 = time.perf_counter()
+    try:
+        _build(methods, modules, cold, announce, parallel)
+    finally:
+        if cold:
+            _SPENT[0] += time.perf_counter() - t0
+    _READY.update(modules)
+    return cold
+
+
+def _build(methods, modules, cold, announce, parallel) -> None:
+    """Compile (cold cache) or load the kernels of ``methods``; announce a compilation once."""
+    global _ANNOUNCED
     if cold and not _ANNOUNCED:
         _ANNOUNCED = True
         if announce is None:
@@ -130,7 +164,8 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
             helper = None
     if helper is not None:
         try:
-            warm([m for m in ("natural", "rcm", "spectral") if m in methods])  # their kernels, meanwhile
+            _compile_symbolic()  # meanwhile: the symbolic analysis and the kernels of light methods
+            warm([m for m in ("natural", "rcm", "spectral") if m in methods])
             if "separators" in modules:
                 _compile_separators()
         except Exception:
@@ -141,7 +176,6 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
             helper.kill()
             raise
     warm(methods)
-    return cold
 
 
 if __name__ == "__main__":  # the helper process of ensure_compiled

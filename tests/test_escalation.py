@@ -48,3 +48,21 @@ def test_more_factorizations_escalate_further():
     ran = lambda info: sum("nnz_factor" in c for c in info["candidates"].values())  # noqa: E731
     assert ran(many) > ran(one)
     assert many["candidates"][many["chosen"]]["nnz_factor"] <= one["candidates"][one["chosen"]]["nnz_factor"]
+
+
+def test_dissection_expected_to_save_less_on_2d_than_on_3d():
+    # textbook growth (George 1973; George & Liu 1981): nested-dissection-like factors have
+    # nnz ~ n log n, ops ~ n^1.5 on 2-D grids and nnz ~ n^(4/3), ops ~ n^2 on 3-D grids, so
+    # ops / nnz^1.5 is far larger in 3-D; the expected saving of nd follows it
+    from reorder.orderings.escalation import dense_index, saving_fraction
+
+    rung = next(r for r in LADDER if r.label == "nd-fast")
+    idx = {}
+    for name, A in (("2d", grid2d(60)), ("3d", grid3d(15))):
+        _, info = escalate(from_matrix(A), rates=DEFAULT_RATES, time_scale=1e9)
+        idx[name] = info["dense_index"]
+    assert idx["3d"] > 2 * idx["2d"]
+    assert saving_fraction(rung, idx["2d"]) < 0.5 * saving_fraction(rung, idx["3d"])
+    assert saving_fraction(rung, 10.0) == rung.saving
+    plain = next(r for r in LADDER if not r.dense)
+    assert saving_fraction(plain, 0.0) == plain.saving

@@ -160,3 +160,25 @@ def test_every_subpackage_is_installed_by_pyproject():
     listed = set(tomllib.loads((root / "pyproject.toml").read_text())["tool"]["setuptools"]["packages"])
     found = {".".join(p.parent.relative_to(root).parts) for p in (root / "reorder").rglob("__init__.py")}
     assert found <= listed, sorted(found - listed)
+
+
+def test_order_announces_compilation_on_the_first_run_only(tmp_path):
+    # A fresh numba cache (NUMBA_CACHE_DIR, numba's documented relocation): the first `reorder order`
+    # compiles and says so once; the second loads the cached code and says nothing. (The check used
+    # to ask for every kernel of every module the default might use, so the message came back on
+    # every run.) Reference for "cached": the second run's wall time is shorter by seconds.
+    scipy.io.mmwrite(str(tmp_path / "plate.mtx"), sp.coo_matrix(grid2d(40)))
+    env = dict(os.environ, NUMBA_CACHE_DIR=str(tmp_path / "cache"), REORDER_CACHE_DIR=str(tmp_path / "rates"))
+    code = ("import time\nt0 = time.perf_counter()\nfrom reorder.cli import main\n"
+            "rc = main(['order', 'plate.mtx', '-o', 'p.txt'])\nprint('WALL', rc, time.perf_counter() - t0)")
+    runs = []
+    for _ in range(2):
+        r = _python(code, env=env, cwd=tmp_path)
+        assert r.returncode == 0, r.stderr
+        wall = r.stdout.strip().splitlines()[-1].split()
+        assert wall[1] == "0", r.stdout
+        runs.append((float(wall[2]), r.stderr))
+    (cold, cold_err), (hot, hot_err) = runs
+    assert cold_err.count("compiling kernels") == 1, cold_err
+    assert "compiling kernels" not in hot_err, hot_err
+    assert cold - hot > 1.0

@@ -26,17 +26,26 @@ def dispatchers(modules=MODULES) -> list:
 
 
 def cache_is_cold(modules=MODULES) -> bool:
-    """True when some kernel of ``modules`` has nothing in numba's on-disk cache (or only code of an
-    older source).
+    """True when some module of ``modules`` has no kernel at all in numba's on-disk cache (or only
+    code of an older source): its first use compiles it.
 
-    Reads the cache index of every kernel (a small file each); compiles nothing. A kernel whose
-    cache cannot be inspected counts as warm, so that an unusual numba set-up never makes the
+    A module counts as compiled when any of its kernels is cached: a method need not use every
+    kernel of a module (asking for all of them announced a compilation on every run of a method that
+    never calls some of them), and what it has not used yet compiles in a second or two on first
+    call. Reads the cache index of the kernels (a small file each); compiles nothing. A kernel whose
+    cache cannot be inspected counts as cached, so that an unusual numba set-up never makes the
     command line announce a compilation that does not happen.
     """
-    for disp in dispatchers(modules):
-        try:
-            if not disp._cache._cache_file._load_index():
-                return True
-        except Exception:  # numba internals differ: do not guess
-            continue
+    for name in modules:
+        cached = False
+        for disp in dispatchers((name,)):
+            try:
+                if disp._cache._cache_file._load_index():
+                    cached = True
+                    break
+            except Exception:  # numba internals differ: do not guess
+                cached = True
+                break
+        if not cached:
+            return True
     return False

@@ -24,7 +24,7 @@ from ..cost import factor_counts, machine_rates, predict_seconds
 from ..graph import Graph
 from .basic import superlu_minimum_degree
 
-__all__ = ["Rung", "LADDER", "escalate"]
+__all__ = ["Rung", "LADDER", "escalate", "dense_index", "saving_fraction"]
 
 
 @dataclass(frozen=True)
@@ -50,6 +50,10 @@ class Rung:
         Cost from the size model :func:`nd_seconds` instead of the cheap start's time.
     after : str
         Label of a rung that must have run first (its saving is counted from that rung's result).
+    dense : bool
+        The saving is ``saving`` only where the factor has much dense work (3-D meshes); it shrinks
+        towards :data:`SPARSE_SHARE` of it where the factor is thin (2-D meshes), see
+        :func:`saving_fraction`.
     """
 
     label: str
@@ -60,6 +64,7 @@ class Rung:
     max_n: int = 0
     per_size: bool = False
     after: str = ""
+    dense: bool = False
 
 
 #: the cheap start: one pivot rule of minimum degree, the approximate fill per column of the
@@ -75,16 +80,44 @@ START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", Tru
 #: :func:`nd_seconds` (full polish 5-7x ``fast`` up to 10⁵ vertices, 1.5x above; three restarts 3x
 #: that). Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
 #: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
-#: 0.45; nd over nd-fast about 0.1; three restarts about 0.01).
+#: 0.45, on 3-D meshes; scaled down on thin factors by :func:`saving_fraction`; nd over nd-fast
+#: about 0.1; three restarts about 0.01).
 LADDER = (
     Rung("mindegree/mean_fill", "mindegree", (("score", "mean_fill"), ("compress", True)), cost=1.1, saving=0.06),
     Rung("rcm", "rcm", (), cost=0.5, saving=0.02),
-    Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True),
+    Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True, dense=True),
     Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
     Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
     Rung("nd", "nd", (("effort", "normal"),), cost=6.0, saving=0.10, per_size=True, after="nd-fast"),
     Rung("nd-best", "nd", (("effort", "best"),), cost=20.0, saving=0.01, per_size=True, after="nd"),
 )
+
+#: where the dense-work index of the cheap start's factor (:func:`dense_index`) is at most
+#: :data:`THIN_INDEX`, a ``dense`` rung is expected to save only :data:`SPARSE_SHARE` of its
+#: ``saving``; from :data:`THICK_INDEX` on, all of it; linear in between. Measured (SuperLU time
+#: predicted from the exact counts, nd-fast over the cheap start): 2-D meshes and grids of 10⁴-9·10⁴
+#: rows have indices 0.06-0.14 and savings 0-16% (mean 8%); a finned 3-D heat sink 0.17 and 0%;
+#: 7- and 27-point 3-D grids 0.36-0.37 and 35-41%. (A flat 45% had ``auto`` with many
+#: factorizations spend seconds on nested dissection of 2-D meshes for a few percent.)
+THIN_INDEX, THICK_INDEX, SPARSE_SHARE = 0.15, 0.35, 0.22
+
+
+def dense_index(counts) -> float:
+    """``ops / nnz(L)^1.5`` of a factor: about constant for nested-dissection-like orders of 3-D
+    meshes (ops ~ n², nnz ~ n^(4/3)) and falling like ``1/log^1.5 n`` for 2-D ones (ops ~ n^1.5,
+    nnz ~ n log n); large where dense blocks dominate the factorization."""
+    nnz = max(float(counts.nnz_factor), 1.0)
+    return float(counts.ops) / nnz**1.5
+
+
+def saving_fraction(rung: Rung, index: float) -> float:
+    """Expected fraction of the best predicted factorization time that ``rung`` saves, given the
+    dense-work index of the cheap start's factor."""
+    if not rung.dense:
+        return rung.saving
+    t = min(max((index - THIN_INDEX) / (THICK_INDEX - THIN_INDEX), 0.0), 1.0)
+    return rung.saving * (SPARSE_SHARE + (1.0 - SPARSE_SHARE) * t)
+
 
 #: seconds per n·log2(n) of ``nd --effort fast`` on the reference machine of
 #: :data:`reorder.cost.DEFAULT_RATES`. Measured (one loaded run, rescaled by that run's rate): 1.9 µs
@@ -153,16 +186,24 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     results: dict[str, dict] = {}
 
     def attempt(rung):
+        if rung.method != "superlu-md":
+            # a cold kernel cache compiles this candidate's kernels now (said once on stderr), not
+            # inside its timing; order() leaves that time out of the ordering seconds too
+            from ..warmup import ensure_compiled
+
+            ensure_compiled([rung.method], load=False)
         t0 = time.perf_counter()
         perm, _ = _run(graph, rung, seed, extra)
         sym = symbolic_factor(graph, perm)
         sec = time.perf_counter() - t0
-        pred = predict_seconds(factor_counts(sym), rates)
+        counts = factor_counts(sym)
+        pred = predict_seconds(counts, rates)
         results[rung.label] = {"nnz_factor": int(sym.nnz_factor), "factor_ops": int(sym.factor_ops),
                                "seconds": round(sec, 4), "predicted_factor_seconds": pred}
-        return (pred, int(sym.nnz_factor)), perm, sec
+        return (pred, int(sym.nnz_factor)), perm, sec, counts
 
-    key, perm, t_start = attempt(START)
+    key, perm, t_start, start_counts = attempt(START)
+    index = dense_index(start_counts)
     best = (key, START.label, perm)
     ran = {START.label}
     stopped = "every candidate ran"
@@ -178,7 +219,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
             cost /= 4.0  # above 10⁵ vertices "normal" uses the cheaper settings
         if rung.method == "superlu-md":
             cost = 1.5 * best[0][0] * time_scale  # it factors an M-matrix of the pattern once
-        saving = rung.saving * best[0][0] * k
+        saving = saving_fraction(rung, index) * best[0][0] * k
         if saving <= cost:
             results[rung.label] = {"skipped": "expected saving below predicted ordering time",
                                    "predicted_order_seconds": round(float(cost), 4),
@@ -187,7 +228,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
                        f"{saving:.3g} s over {k:g} factorization(s)")
             continue
         try:
-            key, perm, _ = attempt(rung)
+            key, perm, _, _ = attempt(rung)
         except Exception as exc:  # a failing candidate must not sink the others
             results[rung.label] = {"error": f"{type(exc).__name__}: {exc}"}
             continue
@@ -198,5 +239,5 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
         results.setdefault(rung.label, {"skipped": "search stopped before it"})
     (pred, _), label, perm = best
     info = {"chosen": label, "candidates": results, "stopped": stopped, "factorizations": k,
-            "predicted_factor_seconds": pred, "rates": rates.source}
+            "predicted_factor_seconds": pred, "rates": rates.source, "dense_index": round(index, 4)}
     return perm, info
