@@ -187,3 +187,16 @@ def test_check_permutation_types():
 def test_atomic_write_missing_folder(tmp_path):
     with pytest.raises(InputError, match="output folder does not exist"):
         write_permutation(tmp_path / "nope" / "p.txt", [0, 1])
+
+
+def test_size_line_with_a_no_break_space(tmp_path):
+    # found by the mutation fuzzer: str.split() separates on U+00A0 (Python's str docs), so the size
+    # line parsed, and then the reader crashed writing it back as ASCII; reference: SciPy's reader on
+    # the same file with a plain space
+    body = "%%MatrixMarket matrix coordinate real general\n2 2{}2\n1 1 1\n2 2 3\n"
+    plain = tmp_path / "plain.mtx"
+    plain.write_text(body.format(" "), encoding="latin-1")
+    odd = tmp_path / "odd.mtx"
+    odd.write_text(body.format("\xa0"), encoding="latin-1")
+    ref = sp.csr_matrix(scipy.io.mmread(str(plain)))
+    assert (read_matrix(odd) != ref).nnz == 0

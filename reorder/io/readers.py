@@ -100,7 +100,9 @@ def _mm_parse_header(stream: CheckedStream, source: str, *, max_memory=None):
     if fmt == "array":
         stored = rows * cols
     check_size(rows, stored, source, max_memory=max_memory)
-    head = (f"%%MatrixMarket matrix {fmt} {_FIELDS[field]} {symmetry}\n{line.strip()}\n").encode("ascii")
+    # the size line rewritten from its parsed integers: a non-ASCII blank (e.g. a no-break space,
+    # which str.split() treats as a separator) must not reach the ASCII header
+    head = (f"%%MatrixMarket matrix {fmt} {_FIELDS[field]} {symmetry}\n{' '.join(parts)}\n").encode("ascii")
     return fmt, field, symmetry, rows, entries, head, bytes(buf[end + 1:])
 
 
