@@ -9,9 +9,19 @@ the same run as a reference speed). Writes ``scripts/results/bench_mindegree.jso
 Targets (issue 4): nnz(L) <= 1.00x SciPy on every matrix, <= 0.97x in geometric mean; the 10^6 grid
 ordered in <= 10 s (aim <= 5 s).
 
+``--speed`` (issue 16) times instead, in one run, ``reorder.order(A, method=...)`` under one pivot rule
+(``mindegree:score=degree`` and the cheap start of ``auto``, ``mindegree:score=fill,compress=true``)
+on 5-point grids 120², 400², 1000² and on the bundled meshes of at least 5,000 rows, beside SciPy's
+path (``splu`` with its own minimum degree, symmetric mode, on an M-matrix of the pattern) and SciPy's
+``reverse_cuthill_mckee``, as ratios (least of several runs each), and the per-call time of
+:func:`reorder.orderings.mindegree.halo_minimum_degree` on 300-vertex leaves of a grid with their
+halo. Target: ``mindegree:score=degree`` <= 1.0 s on the 10^6-row grid. Writes
+``scripts/results/bench_mindegree_speed.json``.
+
 Usage::
 
     python scripts/bench_mindegree.py [--quick] [--grid N] [--option key=value ...]
+    python scripts/bench_mindegree.py --speed [--quick]
 """
 
 from __future__ import annotations
@@ -33,6 +43,9 @@ from reorder.graph import Graph, from_matrix
 from reorder.orderings import order
 
 RESULTS = Path(__file__).resolve().parent / "results" / "bench_mindegree.json"
+SPEED_RESULTS = Path(__file__).resolve().parent / "results" / "bench_mindegree_speed.json"
+#: one-rule specifications timed by ``--speed``
+SPEED_RULES = ("mindegree:score=degree", "mindegree:score=fill,compress=true")
 
 
 def scipy_min_degree(graph: Graph) -> np.ndarray:
@@ -66,13 +79,93 @@ def suite_cases(max_n: int | None):
         yield matrix_name(path), read_matrix(path)
 
 
+def least_time(fn, repeats: int) -> float:
+    """Least wall time of ``repeats`` calls (noise on a shared machine only adds time)."""
+    best = float("inf")
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    return best
+
+
+def leaf_calls(side: int = 17, calls: int = 300) -> dict:
+    """Per-call time of halo minimum degree on ``side``² leaves (289 vertices) of a grid whose
+    surrounding ring of vertices is the halo, as nested dissection calls it on its leaves."""
+    from reorder.gallery import grid2d
+    from reorder.orderings.mindegree import halo_minimum_degree
+
+    G = from_matrix(grid2d(side + 2))
+    ij = np.arange(G.n)
+    r, c = ij // (side + 2), ij % (side + 2)
+    mask = (r > 0) & (r < side + 1) & (c > 0) & (c < side + 1)
+    halo_minimum_degree(G, mask)
+    t = least_time(lambda: [halo_minimum_degree(G, mask) for _ in range(calls)], 3) / calls
+    return dict(vertices=int(mask.sum()), halo=int(G.n - mask.sum()), seconds_per_call=t,
+                microseconds_per_vertex=1e6 * t / int(mask.sum()))
+
+
+def speed(quick: bool, out: Path) -> None:
+    """The ``--speed`` section: one-rule times beside SciPy's path and RCM (see the module notes)."""
+    import reorder
+    from reorder.bundled import manifest, suite_files
+    from reorder.gallery import grid2d
+    from reorder.io import matrix_name, read_matrix
+
+    for spec in SPEED_RULES:  # compile / load the kernels before any clock
+        reorder.order(grid2d(12), method=spec)
+    sides = (120, 400) if quick else (120, 400, 1000)
+    cases = [(f"grid2d_5pt_{k}x{k}", grid2d(k)) for k in sides]
+    meshes = {e["name"] for e in manifest() if e["kind"] in ("grid2d", "grid3d", "fem2d", "fem3d") and e["n"] >= 5000}
+    cases += [(matrix_name(p), read_matrix(p)) for p in suite_files(min_n=5000) if matrix_name(p) in meshes]
+    rows = []
+    head = f"{'matrix':28s} {'n':>8s} {'scipy path':>10s} {'scipy rcm':>9s}"
+    for spec in SPEED_RULES:
+        head += f" {spec.split(':', 1)[1][:22]:>22s} {'/path':>6s}"
+    print(head)
+    for name, A in cases:
+        G = from_matrix(A)
+        repeats = 2 if G.n > 300_000 else 5
+        M = m_matrix(G)
+        t_path = least_time(lambda: splu(M, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0,
+                                         options={"SymmetricMode": True}), 1 if G.n > 300_000 else 3)
+        csr = G.to_csr()
+        t_rcm = least_time(lambda: reverse_cuthill_mckee(csr, symmetric_mode=True), repeats)
+        row = dict(matrix=name, n=G.n, seconds_scipy_path=t_path, seconds_scipy_rcm=t_rcm, rules={})
+        line = f"{name:28s} {G.n:8d} {t_path:10.4f} {t_rcm:9.4f}"
+        for spec in SPEED_RULES:
+            t = least_time(lambda: reorder.order(A, method=spec), repeats)
+            row["rules"][spec] = dict(seconds=t, over_scipy_path=t / t_path, over_scipy_rcm=t / t_rcm,
+                                      microseconds_per_row=1e6 * t / G.n)
+            line += f" {t:22.4f} {t / t_path:6.2f}"
+        rows.append(row)
+        print(line, flush=True)
+    leaf = leaf_calls()
+    print(f"halo minimum degree on {leaf['vertices']}-vertex leaves ({leaf['halo']} halo vertices): "
+          f"{1e6 * leaf['seconds_per_call']:.0f} us per call, {leaf['microseconds_per_vertex']:.2f} us per vertex")
+    big = [r for r in rows if r["matrix"] == "grid2d_5pt_1000x1000"]
+    if big:
+        t = big[0]["rules"][SPEED_RULES[0]]["seconds"]
+        print(f"{SPEED_RULES[0]} on the 10^6-row grid: {t:.2f} s (target <= 1.0 s), "
+              f"{t / big[0]['seconds_scipy_rcm']:.1f}x SciPy RCM")
+    out.parent.mkdir(parents=True, exist_ok=True)
+    out.write_text(json.dumps(dict(machine=platform.platform(), rules=list(SPEED_RULES), matrices=rows,
+                                   leaf_calls=leaf), indent=1))
+    print(f"wrote {out}")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--quick", action="store_true", help="small matrices only, 300x300 timing grid")
     ap.add_argument("--grid", type=int, default=1000, help="side of the timing grid (default 1000)")
     ap.add_argument("--option", action="append", default=[], help="mindegree option key=value")
-    ap.add_argument("--out", type=Path, default=RESULTS)
+    ap.add_argument("--out", type=Path, default=None)
+    ap.add_argument("--speed", action="store_true", help="one-rule times beside SciPy's path and RCM only")
     args = ap.parse_args()
+    if args.speed:
+        speed(args.quick, args.out or SPEED_RESULTS)
+        return
+    args.out = args.out or RESULTS
     options = {}
     for kv in args.option:
         k, v = kv.split("=", 1)

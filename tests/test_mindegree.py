@@ -283,3 +283,77 @@ def test_initial_supervariables_match_closed_neighbourhoods():
             if expected == G.n // 2:
                 pos = inverse(p)
                 assert all(abs(pos[2 * k] - pos[2 * k + 1]) == 1 for k in range(G.n // 2))
+
+
+def _kernel_run(G, role, score, itype, *, compress=False, elbow=0.2, seed=0, fifo=False, delta=0):
+    from reorder.kernels.mindegree import quotient_min_degree
+
+    tie = np.random.default_rng(seed).permutation(G.n) if seed else np.arange(G.n)
+    return quotient_min_degree(G.n, G.indptr, G.indices, role, tie.astype(itype), True, fifo, elbow, score,
+                               delta, compress)
+
+
+def test_index_types_give_the_same_order():
+    # the kernel runs on 32-bit indices where the workspace fits and on 64-bit ones above; both
+    # must compute the same thing (self-consistency, common practice), with halo and left-out
+    # vertices, initial supervariables, a tight workspace (compaction and growth) and every rule
+    import pyamg
+
+    G = from_matrix(sp.kron(pyamg.gallery.poisson((7, 7, 4)), np.ones((2, 2))).tocsr())
+    rng = np.random.default_rng(11)
+    for score in range(6):
+        role = rng.choice(np.array([1, 1, 1, 1, 0, -1], dtype=np.int8), G.n)
+        for compress, elbow, fifo in ((False, 0.0, False), (True, 0.2, True)):
+            kw = dict(compress=compress, elbow=elbow, seed=score + 1, fifo=fifo, delta=-2 if score >= 3 else 0)
+            o32, c32, g32 = _kernel_run(G, role, score, np.int32, **kw)
+            o64, c64, g64 = _kernel_run(G, role, score, np.int64, **kw)
+            assert np.array_equal(o32, o64) and np.array_equal(c32, c64) and np.array_equal(g32, g64)
+            assert np.array_equal(np.sort(o32), np.flatnonzero(role == 1))  # a permutation of the ordered set
+
+
+def test_workspace_growth_resumes_the_same_elimination():
+    # a workspace too small even after compaction is grown and the interrupted step resumed: the
+    # order must equal the one of a roomy workspace (self-consistency, common practice)
+    import pyamg
+
+    G = from_matrix(pyamg.gallery.poisson((9, 9, 9)))
+    role = np.ones(G.n, dtype=np.int8)
+    nnz = G.indices.size
+    for score in range(6):
+        roomy = _kernel_run(G, role, score, np.int32, elbow=4.0)
+        tight = _kernel_run(G, role, score, np.int32, elbow=-1.0)  # one free entry at the start
+        assert np.array_equal(roomy[0], tight[0]) and np.array_equal(roomy[2], tight[2])
+        assert roomy[1][4] == 0 and tight[1][4] > 0  # compactions
+        assert tight[1][5] > nnz + 1  # grew beyond its first size
+
+
+def test_supervariable_members_by_increasing_degree():
+    # the members of one pivot supervariable come by increasing degree, ties in the kernel's merge
+    # order: the same as NumPy's stable lexsort on (group, degree) of the unsorted members
+    # (indistinguishable vertices: any order among them gives the same factor, George & Liu 1989)
+    hub = 5
+    n = 60
+    # an arrow whose hub is twinned with vertex 6: they merge and their degrees differ
+    rows = np.r_[np.full(n - 1, hub), 6 * np.ones(n - 2, dtype=int)]
+    cols = np.r_[np.delete(np.arange(n), hub), np.delete(np.arange(n), [hub, 6])]
+    G = from_edges(n, rows, cols)
+    order_, _, group = _kernel_run(G, np.ones(n, dtype=np.int8), 0, np.int32)
+    deg = np.diff(G.indptr)
+    for t in np.unique(group[group % 2 == 1]):
+        members = order_[group == t]
+        assert np.all(np.diff(deg[members]) >= 0)
+    assert is_perm(order_, n) and fill(G, order_) == fill(G, order_[np.lexsort((deg[order_], group))])
+
+
+@pytest.mark.parametrize("score", ["degree", "mean_fill", "fill", "exact", "exact_fill", "exact_mean_fill"])
+def test_every_rule_counts_like_dense_cholesky(score):
+    # NumPy dense Cholesky of the permuted M-matrix as the outside count of nnz(L), for every rule
+    # on a 3-D grid (no cancellation in an M-matrix factor: structural = numerical nonzeros)
+    import pyamg
+
+    A = pyamg.gallery.poisson((6, 5, 4)).toarray()
+    G = from_matrix(A)
+    p, _ = minimum_degree(G, score=score, compress=True)
+    assert is_perm(p, G.n)
+    L = np.linalg.cholesky(A[np.ix_(p, p)])
+    assert np.count_nonzero(np.abs(L) > 1e-14) == analyse(graph=G, perm=p).nnz_factor

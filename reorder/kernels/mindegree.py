@@ -21,7 +21,14 @@ Published ingredients, written from their descriptions:
   P. Amestoy, "Hybridizing nested dissection and halo approximate minimum degree for efficient sparse
   matrix ordering", Concurrency: Practice and Experience 12 (2000) 69–84.
 
-Nothing here validates input; :mod:`reorder.orderings.mindegree` does.
+Implementation notes (speed). The elimination loop :func:`_eliminate` takes every array as an
+argument and calls no other compiled function in its hot path (the bucket and heap operations are
+written out in place): numba keeps reference counts of arrays that are allocated locally or passed
+to callees, and in a loop of this size its pruning of those counts fails, so that each bucket
+operation cost a dozen atomic operations (27% of the time on a 10⁶-vertex grid, measured with
+``perf``). Index arrays are 32-bit when the workspace fits (the caller picks the type through the
+``tie`` array): half the memory traffic. Nothing here validates input;
+:mod:`reorder.orderings.mindegree` does. All kernels release the GIL.
 """
 
 from __future__ import annotations
@@ -29,52 +36,23 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
-from .heap import before, heap_down, heap_push, heap_remove, heap_up
+from .heap import before, heap_down, heap_push, heap_remove, heap_up  # noqa: F401  (shared heap)
 
 # vertex states
 _VAR = 0  # principal variable (uneliminated supervariable representative)
 _ELEM = 1  # live element (eliminated pivot whose clique is still needed)
 _DEAD = 2  # absorbed element, merged variable, mass-eliminated variable, or excluded vertex
 
+#: largest workspace (entries) of the 32-bit path; the caller checks ``2 nnz + 3 n + 64`` against it
+INT32_LIMIT = 2**31 - 1
 
-@njit(cache=True)
-def _bucket_remove(v, deg, bhead, bnext, bprev, btail):
-    p = bprev[v]
-    q = bnext[v]
-    if p == -1:
-        bhead[deg[v]] = q
-    else:
-        bnext[p] = q
-    if q != -1:
-        bprev[q] = p
-    else:
-        btail[deg[v]] = p
+# slots of the resumable state of :func:`_eliminate`
+_S_MINDEG, _S_NEL, _S_NPIV, _S_TICK, _S_TOCK, _S_USED, _S_HSIZE, _S_SEQ = 0, 1, 2, 3, 4, 5, 6, 7
+_S_NPEND, _S_STAGEDEG, _S_NLEFT, _S_NTODO, _S_RESUME, _S_MASK, _S_INIT = 8, 9, 10, 11, 12, 13, 14
+_NSTATE = 16
 
 
-@njit(cache=True)
-def _bucket_insert(v, d, deg, bhead, bnext, bprev, fifo, btail):
-    deg[v] = d
-    if fifo:
-        t = btail[d]
-        bnext[v] = -1
-        bprev[v] = t
-        if t == -1:
-            bhead[d] = v
-        else:
-            bnext[t] = v
-        btail[d] = v
-    else:
-        h = bhead[d]
-        bprev[v] = -1
-        bnext[v] = h
-        if h != -1:
-            bprev[h] = v
-        else:
-            btail[d] = v
-        bhead[d] = v
-
-
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def _fill_score(d, m, c):
     """Approximate local fill per column of a supervariable of size ``c``.
 
@@ -90,36 +68,7 @@ def _fill_score(d, m, c):
     return (0.5 * (d * (d - 1.0) - m * (m - 1.0))) / c
 
 
-@njit(cache=True)
-def _exact_degree(i, ws, start, length, nelem, state, wt, flag, tock):
-    """Exact external degree of variable ``i`` (weight of the union of its element and variable
-    lists, ``i`` excluded) and the weight of its largest adjacent element; marks with ``tock``."""
-    flag[i] = tock
-    d = 0
-    big = 0
-    s = start[i]
-    for k in range(length[i]):
-        x = ws[s + k]
-        if k < nelem[i]:
-            if state[x] != _ELEM:
-                continue
-            we = 0
-            for p in range(start[x], start[x] + length[x]):
-                j = ws[p]
-                if state[j] == _VAR and j != i:
-                    we += wt[j]
-                    if flag[j] != tock:
-                        flag[j] = tock
-                        d += wt[j]
-            if we > big:
-                big = we
-        elif state[x] == _VAR and flag[x] != tock:
-            flag[x] = tock
-            d += wt[x]
-    return d, big
-
-
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def _compact(ws, used, state, start, length, keep):
     """Slide the live lists of ``ws`` to the front, in position order; return the new used size.
 
@@ -150,269 +99,255 @@ def _compact(ws, used, state, start, length, keep):
     return dst
 
 
-@njit(cache=True)
-def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False):
-    """Order the vertices with ``role == 1`` by approximate minimum external degree.
+@njit(cache=True, nogil=True)
+def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, start, length, nelem, wt,
+               deg, edeg, state, stamp, wext, flag, hkey, hhead, hnext, extd, mnext, mlast, xfirst, xlast,
+               bhead, btail, bnext, bprev, pivots, cliq, heap, hpos, hval, hseq, pend, plist, tie):
+    """The elimination loop of :func:`quotient_min_degree` (one function: see the module notes).
 
-    Parameters
-    ----------
-    n : int
-    indptr, indices : int64 arrays
-        Symmetric graph without self loops (CSR).
-    role : int8 array
-        ``1`` eliminate, ``0`` halo (kept in the graph, never eliminated), ``-1`` left out entirely
-        (postponed dense rows; the caller places them).
-    tie : int64 array
-        A permutation of ``0..n-1``; among vertices of equal initial degree the earlier one in
-        ``tie`` is eliminated first.
-    aggressive : bool
-        Absorb every element whose variables all lie in the new element, not only the adjacent ones.
-    fifo : bool
-        Degree buckets first-in first-out (else last-in first-out).
-    elbow : float
-        Extra workspace as a fraction of the stored entries.
-    score : int
-        ``0``: pick the least approximate external degree (degree buckets). ``1``: the least
-        approximate mean local fill per eliminated column (binary heap), see :func:`_fill_score`.
-        ``2``: that fill divided by the square root of the supervariable size instead (a milder
-        preference for large supervariables; our variant). ``3``: the least *exact* external
-        degree with multiple elimination (Liu 1985): pivots of degree at most the stage's least
-        degree plus ``delta`` that are not adjacent to an element made in the same stage are
-        eliminated one after another, and the exact degrees of their neighbours are recomputed
-        once, at the end of the stage (a vertex whose approximate degree exceeds four times the
-        stage's degree plus 64 keeps the approximate one). ``4``: as ``3``, ties of equal degree
-        broken towards the larger adjacent element (binary heap). ``5``: the score of ``1`` from
-        the exact degree and the exact largest adjacent element, in stages as for ``3`` (a stage
-        takes pivots of the stage's least score).
-    delta : int
-        Degree tolerance of a multiple-elimination stage (``score >= 3`` only); a negative value
-        ``-1 - t`` means tolerance ``t`` with the stage-end updates done in reverse order.
-    compress : bool
-        Merge vertices with identical closed neighbourhoods into supervariables before the first
-        elimination (e.g. the dofs of one node of an elasticity mesh), so that their degrees are
-        external degrees from the start.
-
-    Returns
-    -------
-    order : int64 array
-        The vertices with ``role == 1`` in elimination order.
-    counters : int64 array
-        ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace, merged_initially]``.
-    group : int64 array
-        ``group[k] = 2 t`` if ``order[k]`` was mass-eliminated at pivot step ``t``, ``2 t + 1`` if
-        it belongs to that step's pivot supervariable (whose members are indistinguishable: any
-        order among them gives the same factor).
+    Resumable: the loop's scalars live in ``st`` (and ``stf``). Returns 0 when every vertex is
+    ordered, else the workspace size it needs to go on (the caller grows ``ws`` and calls again; the
+    pivot of the interrupted step is kept in ``st``). Written as one long function on purpose: the
+    bucket and heap operations are spelled out where they are used, so that no array crosses a
+    function call in the hot loop.
     """
-    # ---- workspace: adjacency without left-out vertices and without halo-halo edges
-    nnz = 0
-    for v in range(n):
-        if role[v] < 0:
-            continue
-        for p in range(indptr[v], indptr[v + 1]):
-            u = indices[p]
-            if role[u] < 0 or (role[v] == 0 and role[u] == 0):
-                continue
-            nnz += 1
-    wslen = nnz + int(elbow * nnz) + 2 * n + 16
-    ws = np.empty(wslen, dtype=np.int64)
-    start = np.zeros(n, dtype=np.int64)
-    length = np.zeros(n, dtype=np.int64)
-    nelem = np.zeros(n, dtype=np.int64)  # element entries at the front of a variable's list
-    wt = np.zeros(n, dtype=np.int64)  # supervariable size; negative while in the pivot's clique
-    deg = np.zeros(n, dtype=np.int64)  # approximate external degree (variables)
-    edeg = np.zeros(n, dtype=np.int64)  # weight of the live variables of an element
-    state = np.full(n, _DEAD, dtype=np.int8)
-    stamp = np.zeros(n, dtype=np.int64)
-    wext = np.zeros(n, dtype=np.int64)  # |Le \ Lme| for elements touched in this step
-    flag = np.zeros(n, dtype=np.int64)
-    hkey = np.zeros(n, dtype=np.int64)
-    hhead = np.full(n, -1, dtype=np.int64)
-    hnext = np.full(n, -1, dtype=np.int64)
-    extd = np.zeros(n, dtype=np.int64)
-    mnext = np.full(n, -1, dtype=np.int64)  # member lists of supervariables / pivots
-    mlast = np.arange(n, dtype=np.int64)
-    xfirst = np.full(n, -1, dtype=np.int64)  # mass-eliminated members of a pivot
-    xlast = np.full(n, -1, dtype=np.int64)
-    bhead = np.full(n + 1, -1, dtype=np.int64)
-    btail = np.full(n + 1, -1, dtype=np.int64)
-    bnext = np.full(n, -1, dtype=np.int64)
-    bprev = np.full(n, -1, dtype=np.int64)
-    pivots = np.empty(n, dtype=np.int64)
-    cliq = np.zeros(n, dtype=np.int64)  # largest old element around a variable
-    heap = np.empty(n, dtype=np.int64)
-    hpos = np.full(n, -1, dtype=np.int64)
-    hval = np.zeros(n, dtype=np.float64)
-    hseq = np.zeros(n, dtype=np.int64)
-    hsize = 0
-    seq = 0
+    wslen = ws.size
+    mindeg = st[_S_MINDEG]
+    nel = st[_S_NEL]
+    npiv = st[_S_NPIV]
+    tick = st[_S_TICK]
+    tock = st[_S_TOCK]
+    used = st[_S_USED]
+    hsize = st[_S_HSIZE]
+    seq = st[_S_SEQ]
+    npend = st[_S_NPEND]
+    stagedeg = st[_S_STAGEDEG]
+    nleft = st[_S_NLEFT]
+    ntodo = st[_S_NTODO]
+    resume = st[_S_RESUME]
+    mask = st[_S_MASK]
+    stageval = stf[0]
     exact = score >= 3
     useheap = score == 1 or score == 2 or score >= 4
-    stageval = 0.0
     dlim = delta if delta >= 0 else -delta - 1
-    pend = np.zeros(n, dtype=np.int8)  # exact mode: degree awaits the end of the stage
-    plist = np.empty(n, dtype=np.int64)
-    npend = 0
-    stagedeg = 0
-    counters = np.zeros(7, dtype=np.int64)
 
-    used = 0
-    nleft = 0  # weight of variables not yet eliminated (halo included)
-    ntodo = 0
-    for v in range(n):
-        start[v] = used
-        if role[v] < 0:
-            continue
-        for p in range(indptr[v], indptr[v + 1]):
-            u = indices[p]
-            if role[u] < 0 or (role[v] == 0 and role[u] == 0):
+    if st[_S_INIT] == 0:
+        # ---- the initial queue, in tie order
+        st[_S_INIT] = 1
+        for k in range(n):
+            v = tie[k] if fifo else tie[n - 1 - k]
+            if role[v] != 1 or state[v] != _VAR:
                 continue
-            ws[used] = u
-            used += 1
-        length[v] = used - start[v]
-        wt[v] = 1
-        deg[v] = length[v]
-        state[v] = _VAR
-        nleft += 1
-        if role[v] == 1:
-            ntodo += 1
-    tock = 0  # stamp for list comparison
-    if compress:
-        # initial supervariables: hash of the closed neighbourhood, then an exact comparison
-        for v in range(n):
-            if role[v] != 1:
-                continue
-            h = v
-            for p in range(start[v], start[v] + length[v]):
-                h += ws[p]
-            hkey[v] = h
-            b = h % n
-            hnext[v] = hhead[b]
-            hhead[b] = v
-        for v in range(n):
-            if role[v] != 1:
-                continue
-            b = hkey[v] % n
-            a = hhead[b]
-            if a == -1:
-                continue
-            hhead[b] = -1
-            while a != -1:
-                if state[a] != _VAR:
-                    a = hnext[a]
-                    continue
-                tock += 1
-                flag[a] = tock
-                for p in range(start[a], start[a] + length[a]):
-                    flag[ws[p]] = tock
-                prev = a
-                c = hnext[a]
-                while c != -1:
-                    cn = hnext[c]
-                    same = hkey[c] == hkey[a] and length[c] == length[a] and flag[c] == tock
-                    if same:
-                        for p in range(start[c], start[c] + length[c]):
-                            x = ws[p]
-                            if x != a and flag[x] != tock:
-                                same = False
-                                break
-                    if same:
-                        wt[a] += 1
-                        wt[c] = 0
-                        state[c] = _DEAD
-                        length[c] = 0
-                        mnext[mlast[a]] = c
-                        mlast[a] = mlast[c]
-                        counters[2] += 1
-                        counters[6] += 1
-                        hnext[prev] = cn
-                    else:
-                        prev = c
-                    c = cn
-                a = hnext[a]
-        for v in range(n):
-            if state[v] == _VAR:
-                deg[v] = length[v] - (wt[v] - 1)
-    for k in range(n):
-        v = tie[k] if fifo else tie[n - 1 - k]
-        if role[v] == 1 and state[v] == _VAR:
-            if score == 4 or score == 5:
-                hval[v] = deg[v] + 0.5 if score == 4 else _fill_score(deg[v], 0, wt[v])
-                hseq[v] = seq
-                seq += 1
-                hsize = heap_push(v, hsize, heap, hpos, hval, hseq)
-            elif useheap:
-                hval[v] = _fill_score(deg[v], 0, wt[v])
-                hseq[v] = seq
-                seq += 1
-                hsize = heap_push(v, hsize, heap, hpos, hval, hseq)
-            else:
-                _bucket_insert(v, deg[v], deg, bhead, bnext, bprev, fifo, btail)
-
-    mindeg = 0
-    nel = 0
-    npiv = 0
-    tick = 0  # stamp for wext
-    while nel < ntodo:
-        # ---- pivot: a variable of least approximate external degree
-        if exact and npend > 0:
             if useheap:
-                if score == 5:
-                    stage_over = hsize == 0 or hval[heap[0]] > stageval
+                if score == 4:
+                    hval[v] = deg[v] + 0.5
                 else:
-                    stage_over = hsize == 0 or deg[heap[0]] > stagedeg + dlim
+                    hval[v] = _fill_score(deg[v], 0, wt[v])
+                hseq[v] = seq
+                seq += 1
+                kk = hsize
+                hsize += 1
+                while kk > 0:
+                    pk = (kk - 1) >> 1
+                    u = heap[pk]
+                    if hval[v] < hval[u] or (hval[v] == hval[u] and hseq[v] > hseq[u]):
+                        heap[kk] = u
+                        hpos[u] = kk
+                        kk = pk
+                    else:
+                        break
+                heap[kk] = v
+                hpos[v] = kk
             else:
-                while mindeg <= n and bhead[mindeg] == -1:
-                    mindeg += 1
-                stage_over = mindeg > stagedeg + dlim
-            if stage_over:
-                # end of a multiple-elimination stage: exact external degrees of the neighbours
-                cap = 4 * stagedeg + 64
-                for t in range(npend):
-                    i = plist[t] if delta >= 0 else plist[npend - 1 - t]
-                    pend[i] = 0
-                    if state[i] != _VAR:
-                        continue
-                    if deg[i] > cap:
-                        # far above the least degree: keep the approximate degree (saves the
-                        # scans around hubs; such a vertex is not a pivot candidate soon)
-                        d = deg[i]
-                        big = cliq[i]
+                d = deg[v]
+                if fifo:
+                    t = btail[d]
+                    bnext[v] = -1
+                    bprev[v] = t
+                    if t == -1:
+                        bhead[d] = v
                     else:
-                        d, big = _exact_degree(i, ws, start, length, nelem, state, wt, flag, tock + 1)
-                        tock += 1
-                    if useheap:
-                        deg[i] = d
-                        if score == 5:
-                            hval[i] = _fill_score(d, big, wt[i])
-                        else:
-                            hval[i] = d + 0.5 * (1.0 - big / (d + 1.0))
-                        hseq[i] = seq
-                        seq += 1
-                        hsize = heap_push(i, hsize, heap, hpos, hval, hseq)
+                        bnext[t] = v
+                    btail[d] = v
+                else:
+                    h0 = bhead[d]
+                    bprev[v] = -1
+                    bnext[v] = h0
+                    if h0 != -1:
+                        bprev[h0] = v
                     else:
-                        _bucket_insert(i, d, deg, bhead, bnext, bprev, fifo, btail)
-                        if d < mindeg:
-                            mindeg = d
-                npend = 0
-        if useheap:
-            me = heap[0]
-            hsize = heap_remove(me, hsize, heap, hpos, hval, hseq)
-            if exact and npend == 0:
-                stagedeg = deg[me]
-                stageval = hval[me]
+                        btail[d] = v
+                    bhead[d] = v
+
+    while nel < ntodo:
+        if resume >= 0:
+            me = resume
+            resume = -1
         else:
-            while bhead[mindeg] == -1:
-                mindeg += 1
-            if exact and npend == 0:
-                stagedeg = mindeg
-            me = bhead[mindeg]
-            _bucket_remove(me, deg, bhead, bnext, bprev, btail)
-        pivots[npiv] = me
-        npiv += 1
-        nvp = wt[me]
-        nel += nvp
-        nleft -= nvp
-        state[me] = _ELEM
+            # ---- pivot: a variable of least approximate external degree
+            if exact and npend > 0:
+                if useheap:
+                    if score == 5:
+                        stage_over = hsize == 0 or hval[heap[0]] > stageval
+                    else:
+                        stage_over = hsize == 0 or deg[heap[0]] > stagedeg + dlim
+                else:
+                    while mindeg <= n and bhead[mindeg] == -1:
+                        mindeg += 1
+                    stage_over = mindeg > stagedeg + dlim
+                if stage_over:
+                    # end of a multiple-elimination stage: exact external degrees of the neighbours
+                    cap = 4 * stagedeg + 64
+                    for t in range(npend):
+                        i = plist[t] if delta >= 0 else plist[npend - 1 - t]
+                        pend[i] = 0
+                        if state[i] != _VAR:
+                            continue
+                        if deg[i] > cap:
+                            # far above the least degree: keep the approximate degree (saves the
+                            # scans around hubs; such a vertex is not a pivot candidate soon)
+                            d = deg[i]
+                            big = cliq[i]
+                        else:
+                            # exact external degree of i and the weight of its largest element
+                            tock += 1
+                            flag[i] = tock
+                            d = 0
+                            big = 0
+                            s = start[i]
+                            nei = nelem[i]
+                            for k in range(length[i]):
+                                x = ws[s + k]
+                                if k < nei:
+                                    if state[x] != _ELEM:
+                                        continue
+                                    we = 0
+                                    for p in range(start[x], start[x] + length[x]):
+                                        j = ws[p]
+                                        if state[j] == _VAR and j != i:
+                                            we += wt[j]
+                                            if flag[j] != tock:
+                                                flag[j] = tock
+                                                d += wt[j]
+                                    if we > big:
+                                        big = we
+                                elif state[x] == _VAR and flag[x] != tock:
+                                    flag[x] = tock
+                                    d += wt[x]
+                        if useheap:
+                            deg[i] = d
+                            if score == 5:
+                                hval[i] = _fill_score(d, big, wt[i])
+                            else:
+                                hval[i] = d + 0.5 * (1.0 - big / (d + 1.0))
+                            hseq[i] = seq
+                            seq += 1
+                            kk = hsize
+                            hsize += 1
+                            while kk > 0:
+                                pk = (kk - 1) >> 1
+                                u = heap[pk]
+                                if hval[i] < hval[u] or (hval[i] == hval[u] and hseq[i] > hseq[u]):
+                                    heap[kk] = u
+                                    hpos[u] = kk
+                                    kk = pk
+                                else:
+                                    break
+                            heap[kk] = i
+                            hpos[i] = kk
+                        else:
+                            deg[i] = d
+                            if fifo:
+                                t2 = btail[d]
+                                bnext[i] = -1
+                                bprev[i] = t2
+                                if t2 == -1:
+                                    bhead[d] = i
+                                else:
+                                    bnext[t2] = i
+                                btail[d] = i
+                            else:
+                                h0 = bhead[d]
+                                bprev[i] = -1
+                                bnext[i] = h0
+                                if h0 != -1:
+                                    bprev[h0] = i
+                                else:
+                                    btail[d] = i
+                                bhead[d] = i
+                            if d < mindeg:
+                                mindeg = d
+                    npend = 0
+            if useheap:
+                me = heap[0]
+                rm = me
+            else:
+                while bhead[mindeg] == -1:
+                    mindeg += 1
+                if exact and npend == 0:
+                    stagedeg = mindeg
+                me = bhead[mindeg]
+                rm = -1
+                # bucket removal of the pivot
+                pb = bprev[me]
+                qb = bnext[me]
+                if pb == -1:
+                    bhead[deg[me]] = qb
+                else:
+                    bnext[pb] = qb
+                if qb != -1:
+                    bprev[qb] = pb
+                else:
+                    btail[deg[me]] = pb
+            if rm >= 0:
+                # heap removal of the pivot
+                kk = hpos[rm]
+                hpos[rm] = -1
+                hsize -= 1
+                if kk != hsize:
+                    last = heap[hsize]
+                    up = False
+                    if kk > 0:
+                        u = heap[(kk - 1) >> 1]
+                        up = hval[last] < hval[u] or (hval[last] == hval[u] and hseq[last] > hseq[u])
+                    if up:
+                        while kk > 0:
+                            pk = (kk - 1) >> 1
+                            u = heap[pk]
+                            if hval[last] < hval[u] or (hval[last] == hval[u] and hseq[last] > hseq[u]):
+                                heap[kk] = u
+                                hpos[u] = kk
+                                kk = pk
+                            else:
+                                break
+                    else:
+                        while True:
+                            c = 2 * kk + 1
+                            if c >= hsize:
+                                break
+                            if c + 1 < hsize:
+                                a1 = heap[c + 1]
+                                a0 = heap[c]
+                                if hval[a1] < hval[a0] or (hval[a1] == hval[a0] and hseq[a1] > hseq[a0]):
+                                    c += 1
+                            u = heap[c]
+                            if hval[u] < hval[last] or (hval[u] == hval[last] and hseq[u] > hseq[last]):
+                                heap[kk] = u
+                                hpos[u] = kk
+                                kk = c
+                            else:
+                                break
+                    heap[kk] = last
+                    hpos[last] = kk
+                if exact and npend == 0:
+                    stagedeg = deg[me]
+                    stageval = hval[me]
+            pivots[npiv] = me
+            npiv += 1
+            nvp = wt[me]
+            nel += nvp
+            nleft -= nvp
+            state[me] = _ELEM
 
         # ---- the new element's variables Lme: A_me plus the variables of the adjacent elements
         ne = nelem[me]
@@ -427,26 +362,33 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     q += 1
                     degme += wt[i]
                     wt[i] = -wt[i]
-                    if role[i] == 1 and pend[i] == 0:
-                        if useheap:
-                            hsize = heap_remove(i, hsize, heap, hpos, hval, hseq)
-                        else:
-                            _bucket_remove(i, deg, bhead, bnext, bprev, btail)
             length[me] = q - p0
         else:
             need = length[me] - ne
+            s = start[me]
             for k in range(ne):
-                e = ws[start[me] + k]
+                e = ws[s + k]
                 if state[e] == _ELEM:
                     need += length[e]
             if used + need > wslen:
                 used = _compact(ws, used, state, start, length, extd)
                 counters[4] += 1
                 if used + need > wslen:
-                    grown = np.empty(max(2 * wslen, used + need + n), dtype=np.int64)
-                    grown[:used] = ws[:used]
-                    ws = grown
-                    wslen = ws.size
+                    # the caller grows the workspace and calls again with this pivot
+                    st[_S_MINDEG] = mindeg
+                    st[_S_NEL] = nel
+                    st[_S_NPIV] = npiv
+                    st[_S_TICK] = tick
+                    st[_S_TOCK] = tock
+                    st[_S_USED] = used
+                    st[_S_HSIZE] = hsize
+                    st[_S_SEQ] = seq
+                    st[_S_NPEND] = npend
+                    st[_S_STAGEDEG] = stagedeg
+                    st[_S_NLEFT] = nleft
+                    st[_S_RESUME] = me
+                    stf[0] = stageval
+                    return used + need
             p0 = used
             q = p0
             s = start[me]
@@ -461,11 +403,6 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                         q += 1
                         degme += wt[i]
                         wt[i] = -wt[i]
-                        if role[i] == 1 and pend[i] == 0:
-                            if useheap:
-                                hsize = heap_remove(i, hsize, heap, hpos, hval, hseq)
-                            else:
-                                _bucket_remove(i, deg, bhead, bnext, bprev, btail)
                 state[e] = _DEAD
                 length[e] = 0
                 counters[3] += 1
@@ -476,17 +413,68 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     q += 1
                     degme += wt[i]
                     wt[i] = -wt[i]
-                    if role[i] == 1 and pend[i] == 0:
-                        if useheap:
-                            hsize = heap_remove(i, hsize, heap, hpos, hval, hseq)
-                        else:
-                            _bucket_remove(i, deg, bhead, bnext, bprev, btail)
             start[me] = p0
             length[me] = q - p0
             nelem[me] = 0
             used = q
         lme0 = start[me]
         lme1 = lme0 + length[me]
+
+        # ---- take the variables of Lme out of the queue (their degrees change)
+        for p in range(lme0, lme1):
+            i = ws[p]
+            if role[i] != 1 or pend[i] != 0:
+                continue
+            if useheap:
+                kk = hpos[i]
+                hpos[i] = -1
+                hsize -= 1
+                if kk != hsize:
+                    last = heap[hsize]
+                    up = False
+                    if kk > 0:
+                        u = heap[(kk - 1) >> 1]
+                        up = hval[last] < hval[u] or (hval[last] == hval[u] and hseq[last] > hseq[u])
+                    if up:
+                        while kk > 0:
+                            pk = (kk - 1) >> 1
+                            u = heap[pk]
+                            if hval[last] < hval[u] or (hval[last] == hval[u] and hseq[last] > hseq[u]):
+                                heap[kk] = u
+                                hpos[u] = kk
+                                kk = pk
+                            else:
+                                break
+                    else:
+                        while True:
+                            c = 2 * kk + 1
+                            if c >= hsize:
+                                break
+                            if c + 1 < hsize:
+                                a1 = heap[c + 1]
+                                a0 = heap[c]
+                                if hval[a1] < hval[a0] or (hval[a1] == hval[a0] and hseq[a1] > hseq[a0]):
+                                    c += 1
+                            u = heap[c]
+                            if hval[u] < hval[last] or (hval[u] == hval[last] and hseq[u] > hseq[last]):
+                                heap[kk] = u
+                                hpos[u] = kk
+                                kk = c
+                            else:
+                                break
+                    heap[kk] = last
+                    hpos[last] = kk
+            else:
+                pb = bprev[i]
+                qb = bnext[i]
+                if pb == -1:
+                    bhead[deg[i]] = qb
+                else:
+                    bnext[pb] = qb
+                if qb != -1:
+                    bprev[qb] = pb
+                else:
+                    btail[deg[i]] = pb
 
         # ---- |Le \ Lme| for every element adjacent to the clique
         tick += 1
@@ -512,7 +500,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             ext = 0
             h = 0
             big = 0
-            for k in range(nelem[i]):
+            nei = nelem[i]
+            for k in range(nei):
                 e = ws[s + k]
                 if state[e] != _ELEM:
                     continue
@@ -529,7 +518,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     length[e] = 0
                     counters[3] += 1
             newne = q - s
-            for k in range(nelem[i], length[i]):
+            for k in range(nei, length[i]):
                 j = ws[s + k]
                 if state[j] == _VAR and wt[j] > 0:
                     ext += wt[j]
@@ -569,7 +558,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                 cliq[i] = big
                 hkey[i] = h
                 if role[i] == 1:
-                    b = h % n
+                    b = h & mask
                     hnext[i] = hhead[b]
                     hhead[b] = i
 
@@ -578,7 +567,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             i = ws[p]
             if state[i] != _VAR or role[i] != 1:
                 continue
-            b = hkey[i] % n
+            b = hkey[i] & mask
             a = hhead[b]
             if a == -1:
                 continue
@@ -589,16 +578,17 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     break
                 tock += 1
                 sa = start[a]
-                for k in range(length[a]):
+                la = length[a]
+                for k in range(la):
                     flag[ws[sa + k]] = tock
                 prev = a
                 c = nxt
                 while c != -1:
                     cn = hnext[c]
-                    same = hkey[c] == hkey[a] and length[c] == length[a] and nelem[c] == nelem[a]
+                    same = hkey[c] == hkey[a] and length[c] == la and nelem[c] == nelem[a]
                     if same:
                         sc = start[c]
-                        for k in range(length[c]):
+                        for k in range(la):
                             if flag[ws[sc + k]] != tock:
                                 same = False
                                 break
@@ -616,7 +606,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                     c = cn
                 a = hnext[a]
 
-        # ---- finish the element and put its variables back into the degree buckets
+        # ---- finish the element and put its variables back into the queue
         q = lme0
         for p in range(lme0, lme1):
             i = ws[p]
@@ -626,44 +616,301 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             wt[i] = nvi
             ws[q] = i
             q += 1
-            if role[i] == 1:
-                d = deg[i] + degme - nvi  # approximate external degree (an upper bound)
-                d2 = extd[i] + degme - nvi
-                if d2 < d:
-                    d = d2
-                if nleft - nvi < d:
-                    d = nleft - nvi
-                if d < 0:
-                    d = 0
-                if exact:
-                    # the exact degree is computed at the end of the stage
-                    deg[i] = d
-                    if pend[i] == 0:
-                        pend[i] = 1
-                        plist[npend] = i
-                        npend += 1
-                elif useheap:
-                    deg[i] = d
-                    m = cliq[i] if cliq[i] > degme else degme
-                    if score == 2:
-                        hval[i] = _fill_score(d, m - nvi, nvi) * nvi ** 0.5
-                    else:
-                        hval[i] = _fill_score(d, m - nvi, nvi)
-                    hseq[i] = seq
-                    seq += 1
-                    hsize = heap_push(i, hsize, heap, hpos, hval, hseq)
+            if role[i] != 1:
+                continue
+            d = deg[i] + degme - nvi  # approximate external degree (an upper bound)
+            d2 = extd[i] + degme - nvi
+            if d2 < d:
+                d = d2
+            if nleft - nvi < d:
+                d = nleft - nvi
+            if d < 0:
+                d = 0
+            deg[i] = d
+            if exact:
+                # the exact degree is computed at the end of the stage
+                if pend[i] == 0:
+                    pend[i] = 1
+                    plist[npend] = i
+                    npend += 1
+            elif useheap:
+                m = cliq[i] if cliq[i] > degme else degme
+                if score == 2:
+                    hval[i] = _fill_score(d, m - nvi, nvi) * nvi ** 0.5
                 else:
-                    _bucket_insert(i, d, deg, bhead, bnext, bprev, fifo, btail)
-                    if d < mindeg:
-                        mindeg = d
+                    hval[i] = _fill_score(d, m - nvi, nvi)
+                hseq[i] = seq
+                seq += 1
+                kk = hsize
+                hsize += 1
+                while kk > 0:
+                    pk = (kk - 1) >> 1
+                    u = heap[pk]
+                    if hval[i] < hval[u] or (hval[i] == hval[u] and hseq[i] > hseq[u]):
+                        heap[kk] = u
+                        hpos[u] = kk
+                        kk = pk
+                    else:
+                        break
+                heap[kk] = i
+                hpos[i] = kk
+            else:
+                if fifo:
+                    t2 = btail[d]
+                    bnext[i] = -1
+                    bprev[i] = t2
+                    if t2 == -1:
+                        bhead[d] = i
+                    else:
+                        bnext[t2] = i
+                    btail[d] = i
+                else:
+                    h0 = bhead[d]
+                    bprev[i] = -1
+                    bnext[i] = h0
+                    if h0 != -1:
+                        bprev[h0] = i
+                    else:
+                        btail[d] = i
+                    bhead[d] = i
+                if d < mindeg:
+                    mindeg = d
         length[me] = q - lme0
         edeg[me] = degme
         if length[me] == 0:
             state[me] = _DEAD
 
-    # ---- the order: per pivot, the vertices mass-eliminated with it, then its supervariable.
-    # (A mass-eliminated vertex has no neighbour outside the pivot's clique, so placing it first
-    # never costs more than placing it after the pivot.)
+    st[_S_NPIV] = npiv
+    st[_S_USED] = used
+    return 0
+
+
+@njit(cache=True, nogil=True)
+def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False):
+    """Order the vertices with ``role == 1`` by approximate minimum external degree.
+
+    Parameters
+    ----------
+    n : int
+    indptr, indices : int64 (or int32) arrays
+        Symmetric graph without self loops (CSR).
+    role : int8 array
+        ``1`` eliminate, ``0`` halo (kept in the graph, never eliminated), ``-1`` left out entirely
+        (postponed dense rows; the caller places them).
+    tie : int32 or int64 array
+        A permutation of ``0..n-1``; among vertices of equal initial degree the earlier one in
+        ``tie`` is eliminated first. Its type is the index type of the workspace: int32 only where
+        ``2 nnz + 3 n + 64 < 2**31`` (the caller checks; see :data:`INT32_LIMIT`).
+    aggressive : bool
+        Absorb every element whose variables all lie in the new element, not only the adjacent ones.
+    fifo : bool
+        Degree buckets first-in first-out (else last-in first-out).
+    elbow : float
+        Extra workspace as a fraction of the stored entries (a negative value leaves less than the
+        usual slack of ``2 n``, down to one free entry: tests use it to force the growth path).
+    score : int
+        ``0``: pick the least approximate external degree (degree buckets). ``1``: the least
+        approximate mean local fill per eliminated column (binary heap), see :func:`_fill_score`.
+        ``2``: that fill divided by the square root of the supervariable size instead (a milder
+        preference for large supervariables; our variant). ``3``: the least *exact* external
+        degree with multiple elimination (Liu 1985): pivots of degree at most the stage's least
+        degree plus ``delta`` that are not adjacent to an element made in the same stage are
+        eliminated one after another, and the exact degrees of their neighbours are recomputed
+        once, at the end of the stage (a vertex whose approximate degree exceeds four times the
+        stage's degree plus 64 keeps the approximate one). ``4``: as ``3``, ties of equal degree
+        broken towards the larger adjacent element (binary heap). ``5``: the score of ``1`` from
+        the exact degree and the exact largest adjacent element, in stages as for ``3`` (a stage
+        takes pivots of the stage's least score).
+    delta : int
+        Degree tolerance of a multiple-elimination stage (``score >= 3`` only); a negative value
+        ``-1 - t`` means tolerance ``t`` with the stage-end updates done in reverse order.
+    compress : bool
+        Merge vertices with identical closed neighbourhoods into supervariables before the first
+        elimination (e.g. the dofs of one node of an elasticity mesh), so that their degrees are
+        external degrees from the start.
+
+    Returns
+    -------
+    order : int64 array
+        The vertices with ``role == 1`` in elimination order. The members of one pivot
+        supervariable (indistinguishable: any order among them gives the same factor) come by
+        increasing degree in the given graph, ties in merge order (e.g. the hub of an arrow last).
+    counters : int64 array
+        ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace, merged_initially]``.
+    group : int64 array
+        ``group[k] = 2 t`` if ``order[k]`` was mass-eliminated at pivot step ``t``, ``2 t + 1`` if
+        it belongs to that step's pivot supervariable.
+    """
+    itype = tie.dtype
+    # ---- workspace: adjacency without left-out vertices and without halo-halo edges
+    nnz = 0
+    for v in range(n):
+        if role[v] < 0:
+            continue
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if role[u] < 0 or (role[v] == 0 and role[u] == 0):
+                continue
+            nnz += 1
+    wslen = nnz + int(elbow * nnz) + 2 * n + 16
+    if wslen <= nnz:  # a negative elbow (tests: forces the growth path) still holds the graph
+        wslen = nnz + 1
+    if tie.itemsize == 4 and wslen > INT32_LIMIT:
+        wslen = INT32_LIMIT
+    ws = np.empty(wslen, dtype=itype)
+    start = np.zeros(n, dtype=itype)
+    length = np.zeros(n, dtype=itype)
+    nelem = np.zeros(n, dtype=itype)  # element entries at the front of a variable's list
+    wt = np.zeros(n, dtype=itype)  # supervariable size; negative while in the pivot's clique
+    deg = np.zeros(n, dtype=itype)  # approximate external degree (variables)
+    edeg = np.zeros(n, dtype=itype)  # weight of the live variables of an element
+    state = np.full(n, _DEAD, dtype=np.int8)
+    stamp = np.zeros(n, dtype=itype)
+    wext = np.zeros(n, dtype=itype)  # |Le \ Lme| for elements touched in this step
+    flag = np.zeros(n, dtype=np.int64)
+    hkey = np.zeros(n, dtype=np.int64)
+    # hash buckets, key & (size - 1): every bucket filled in a step is emptied in the same step,
+    # so the table only needs to spread the variables of one new element; a table that stays in
+    # cache (at most 2^15 buckets) spares a cache miss per variable. (Any bucket function gives the
+    # same merges: only variables of equal key are compared, in the same relative order.)
+    mask = 1
+    while mask < n and mask < 32768:
+        mask *= 2
+    hhead = np.full(mask, -1, dtype=itype)
+    mask -= 1
+    hnext = np.full(n, -1, dtype=itype)
+    extd = np.zeros(n, dtype=itype)
+    mnext = np.full(n, -1, dtype=itype)  # member lists of supervariables / pivots
+    mlast = np.arange(n).astype(itype)
+    xfirst = np.full(n, -1, dtype=itype)  # mass-eliminated members of a pivot
+    xlast = np.full(n, -1, dtype=itype)
+    bhead = np.full(n + 1, -1, dtype=itype)
+    btail = np.full(n + 1, -1, dtype=itype)
+    bnext = np.full(n, -1, dtype=itype)
+    bprev = np.full(n, -1, dtype=itype)
+    pivots = np.empty(n, dtype=itype)
+    cliq = np.zeros(n, dtype=itype)  # largest old element around a variable
+    heap = np.empty(n, dtype=itype)
+    hpos = np.full(n, -1, dtype=itype)
+    hval = np.zeros(n, dtype=np.float64)
+    hseq = np.zeros(n, dtype=np.int64)
+    pend = np.zeros(n, dtype=np.int8)  # exact mode: degree awaits the end of the stage
+    plist = np.empty(n, dtype=itype)
+    counters = np.zeros(7, dtype=np.int64)
+
+    used = 0
+    nleft = 0  # weight of variables not yet eliminated (halo included)
+    ntodo = 0
+    for v in range(n):
+        start[v] = used
+        if role[v] < 0:
+            continue
+        for p in range(indptr[v], indptr[v + 1]):
+            u = indices[p]
+            if role[u] < 0 or (role[v] == 0 and role[u] == 0):
+                continue
+            ws[used] = u
+            used += 1
+        length[v] = used - start[v]
+        wt[v] = 1
+        deg[v] = length[v]
+        state[v] = _VAR
+        nleft += 1
+        if role[v] == 1:
+            ntodo += 1
+    tock = 0  # stamp for list comparison
+    if compress:
+        # initial supervariables: hash of the closed neighbourhood, then an exact comparison
+        # (all vertices at once: a table of about n buckets)
+        cmask = 1
+        while cmask < n:
+            cmask *= 2
+        chead = np.full(cmask, -1, dtype=itype)
+        cmask -= 1
+        for v in range(n):
+            if role[v] != 1:
+                continue
+            h = v
+            for p in range(start[v], start[v] + length[v]):
+                h += ws[p]
+            hkey[v] = h
+            b = h & cmask
+            hnext[v] = chead[b]
+            chead[b] = v
+        for v in range(n):
+            if role[v] != 1:
+                continue
+            b = hkey[v] & cmask
+            a = chead[b]
+            if a == -1:
+                continue
+            chead[b] = -1
+            while a != -1:
+                if state[a] != _VAR:
+                    a = hnext[a]
+                    continue
+                tock += 1
+                flag[a] = tock
+                for p in range(start[a], start[a] + length[a]):
+                    flag[ws[p]] = tock
+                prev = a
+                c = hnext[a]
+                while c != -1:
+                    cn = hnext[c]
+                    same = hkey[c] == hkey[a] and length[c] == length[a] and flag[c] == tock
+                    if same:
+                        for p in range(start[c], start[c] + length[c]):
+                            x = ws[p]
+                            if x != a and flag[x] != tock:
+                                same = False
+                                break
+                    if same:
+                        wt[a] += 1
+                        wt[c] = 0
+                        state[c] = _DEAD
+                        length[c] = 0
+                        mnext[mlast[a]] = c
+                        mlast[a] = mlast[c]
+                        counters[2] += 1
+                        counters[6] += 1
+                        hnext[prev] = cn
+                    else:
+                        prev = c
+                    c = cn
+                a = hnext[a]
+        for v in range(n):
+            if state[v] == _VAR:
+                deg[v] = length[v] - (wt[v] - 1)
+
+    st = np.zeros(_NSTATE, dtype=np.int64)
+    stf = np.zeros(1, dtype=np.float64)
+    st[_S_TOCK] = tock
+    st[_S_USED] = used
+    st[_S_NLEFT] = nleft
+    st[_S_NTODO] = ntodo
+    st[_S_RESUME] = -1
+    st[_S_MASK] = mask
+    while True:
+        want = _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, start, length,
+                          nelem, wt, deg, edeg, state, stamp, wext, flag, hkey, hhead, hnext, extd, mnext,
+                          mlast, xfirst, xlast, bhead, btail, bnext, bprev, pivots, cliq, heap, hpos, hval,
+                          hseq, pend, plist, tie)
+        if want == 0:
+            break
+        # the workspace is full even after compaction: grow it (the live lists are at the front)
+        size = max(2 * wslen, want + n)
+        if tie.itemsize == 4 and size > INT32_LIMIT:
+            size = INT32_LIMIT
+        grown = np.empty(size, dtype=itype)
+        used = st[_S_USED]
+        grown[:used] = ws[:used]
+        ws = grown
+        wslen = size
+
+    # ---- the order: per pivot, the vertices mass-eliminated with it, then its supervariable
+    # (members by increasing degree in the given graph, stable). A mass-eliminated vertex has no
+    # neighbour outside the pivot's clique, so placing it first never costs more than after the pivot.
+    npiv = st[_S_NPIV]
     out = np.empty(ntodo, dtype=np.int64)
     group = np.empty(ntodo, dtype=np.int64)
     k = 0
@@ -674,12 +921,31 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             group[k] = 2 * t
             k += 1
             v = mnext[v]
+        k0 = k
         v = pivots[t]
         while v != -1:
             out[k] = v
             group[k] = 2 * t + 1
             k += 1
             v = mnext[v]
+        if k - k0 > 1:
+            if k - k0 <= 32:
+                for a in range(k0 + 1, k):  # insertion sort by degree (stable)
+                    x = out[a]
+                    dx = indptr[x + 1] - indptr[x]
+                    b = a - 1
+                    while b >= k0 and indptr[out[b] + 1] - indptr[out[b]] > dx:
+                        out[b + 1] = out[b]
+                        b -= 1
+                    out[b + 1] = x
+            else:
+                seg = out[k0:k].copy()
+                dseg = np.empty(k - k0, dtype=np.int64)
+                for a in range(k - k0):
+                    dseg[a] = indptr[seg[a] + 1] - indptr[seg[a]]
+                idx = np.argsort(dseg, kind="mergesort")
+                for a in range(k - k0):
+                    out[k0 + a] = seg[idx[a]]
     counters[0] = npiv
     counters[5] = wslen
     return out, counters, group

@@ -13,7 +13,7 @@ import numpy as np
 
 from ..analysis import symbolic_factor
 from ..graph import Graph
-from ..kernels.mindegree import quotient_min_degree
+from ..kernels.mindegree import INT32_LIMIT, quotient_min_degree
 from . import register
 from .records import SCORES, MinDegreeSettings
 
@@ -42,35 +42,52 @@ _AUTO_EXACT = [
 _COUNTER_NAMES = ("pivots", "mass_eliminated", "merged", "absorbed", "compactions", "workspace", "merged_initially")
 
 
-def _tie_order(n: int, seed: int, reverse: bool = False) -> np.ndarray:
+def _index_type(graph: Graph):
+    """int32 where the kernel's workspace fits 32-bit positions (see ``INT32_LIMIT``), else int64."""
+    return np.int32 if 2 * graph.indices.size + 3 * graph.n + 64 < INT32_LIMIT else np.int64
+
+
+def _tie_order(n: int, seed: int, reverse: bool = False, dtype=np.int64) -> np.ndarray:
     if not seed:
-        tie = np.arange(n, dtype=np.int64)
+        tie = np.arange(n - 1, -1, -1, dtype=dtype) if reverse else np.arange(n, dtype=dtype)
     else:
-        tie = np.random.default_rng(seed).permutation(n).astype(np.int64)
-    return np.ascontiguousarray(tie[::-1]) if reverse else tie
+        tie = np.random.default_rng(seed).permutation(n).astype(dtype)
+        if reverse:
+            tie = np.ascontiguousarray(tie[::-1])
+    return tie
 
 
-def _dense_flags(graph: Graph, role: np.ndarray, dense: float) -> np.ndarray:
-    """Vertices to postpone: degree above ``dense * sqrt(n)`` (never when ``dense <= 0``)."""
+def _dense_flags(graph: Graph, role: np.ndarray, dense: float):
+    """Vertices to postpone: degree above ``dense * sqrt(n)`` (never when ``dense <= 0``); None
+    when there are none."""
     if dense is None or dense <= 0 or graph.n == 0:
-        return np.zeros(graph.n, dtype=bool)
+        return None
     limit = dense * math.sqrt(graph.n)
-    return (np.diff(graph.indptr) > limit) & (role == 1)
+    if graph.indptr[-1] <= limit:  # no vertex can have more neighbours than there are entries
+        return None
+    heavy = (np.diff(graph.indptr) > limit) & (role == 1)
+    return heavy if heavy.any() else None
 
 
-def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bool, fifo: bool, elbow: float, score: int = 0, delta: int = 0, reverse: bool = False, compress: bool = False):
+def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bool, fifo: bool, elbow: float, score: int = 0, delta: int = 0, reverse: bool = False, compress: bool = False, counters: bool = True, index_type=None):
+    """One kernel run; returns the order and (``counters=True``) the dict of counters, else None.
+
+    The kernel puts the members of each pivot supervariable (indistinguishable: any order among
+    them gives the same factor) by increasing degree, so that e.g. the hub of an arrow comes last.
+    """
     n = graph.n
     heavy = _dense_flags(graph, role, dense)
-    nheavy = int(np.count_nonzero(heavy))
+    nheavy = int(np.count_nonzero(heavy)) if heavy is not None else 0
     if nheavy:
         role = role.copy()
         role[heavy] = -1
-    order, counters, group = quotient_min_degree(
+    itype = _index_type(graph) if index_type is None else index_type
+    order, cnt, _ = quotient_min_degree(
         n,
-        np.ascontiguousarray(graph.indptr, dtype=np.int64),
+        np.ascontiguousarray(graph.indptr, dtype=np.int64),  # no copy for a Graph (int64 already)
         np.ascontiguousarray(graph.indices, dtype=np.int64),
         role,
-        _tie_order(n, seed, reverse),
+        _tie_order(n, seed, reverse, itype),
         bool(aggressive),
         bool(fifo),
         float(elbow),
@@ -78,16 +95,14 @@ def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bo
         int(delta),
         bool(compress),
     )
-    # members of one pivot supervariable are indistinguishable (any order among them gives the same
-    # factor): put those of larger original degree last, e.g. the hub of an arrow
-    degree = np.diff(graph.indptr)
-    order = order[np.lexsort((np.where(group & 1, degree[order], np.arange(order.size)), group))]
     if nheavy:
         # postponed rows go last, lightest first (ties by vertex number)
         ids = np.flatnonzero(heavy)
         ids = ids[np.argsort(np.diff(graph.indptr)[ids], kind="stable")]
         order = np.concatenate((order, ids.astype(np.int64)))
-    info = dict(zip(_COUNTER_NAMES, (int(c) for c in counters)))
+    if not counters:
+        return order, None
+    info = dict(zip(_COUNTER_NAMES, (int(c) for c in cnt)))
     info["dense"] = nheavy
     return order, info
 
@@ -260,14 +275,5 @@ def halo_minimum_degree(graph: Graph, ordered_mask, *, seed: int = 0, score: str
     if graph.n == 0 or not mask.any():
         return np.zeros(0, dtype=np.int64)
     role = mask.astype(np.int8)
-    order, _ = _run(
-        graph,
-        role,
-        seed,
-        dense,
-        aggressive,
-        bool(fifo),
-        float(elbow),
-        _SCORES[score],
-    )
+    order, _ = _run(graph, role, seed, dense, aggressive, fifo, elbow, _SCORES[score], counters=False)
     return order
