@@ -157,3 +157,50 @@ def test_factor_column_counts_match_numpy_dense_cholesky():
 
     c = factor_column_counts(from_matrix(A), perm)
     assert np.array_equal(c, dense_cholesky_counts(A[perm][:, perm]))
+
+
+def test_etree_postorder_is_an_equivalent_postorder():
+    # textbook facts (Liu 1990, SIAM J. Matrix Anal. Appl. 11): the elimination tree from the dense
+    # factor is parent(j) = min{i > j : L[i, j] != 0}; a postorder numbers every subtree
+    # consecutively, ending at its root; and it is an equivalent order (same nnz(L)). The factor
+    # comes from NumPy's dense Cholesky.
+    from reorder.analysis import etree_postorder
+    from reorder.graph import from_matrix
+
+    A = m_matrix(grid2d(7, 6))
+    G = from_matrix(A)
+    p = np.random.default_rng(3).permutation(G.n)
+    q = etree_postorder(G, p)
+    assert np.array_equal(np.sort(q), np.arange(G.n))
+
+    def dense_factor(perm):
+        L = np.linalg.cholesky(A.toarray()[np.ix_(perm, perm)])
+        return np.abs(L) > 1e-12
+
+    Lp, Lq = dense_factor(p), dense_factor(q)
+    assert Lp.sum() == Lq.sum()
+    n = G.n
+    parent = np.array([next((i for i in range(j + 1, n) if Lq[i, j]), -1) for j in range(n)])
+    size = np.ones(n, dtype=int)
+    for j in range(n):  # children come before parents
+        if parent[j] >= 0:
+            size[parent[j]] += size[j]
+    for j in range(n):  # the subtree of j is exactly positions j - size + 1 .. j
+        members = [k for k in range(n) if k == j or _is_ancestor(parent, j, k)]
+        assert members == list(range(j - size[j] + 1, j + 1))
+    # a random order is not a postorder here (else this test would check nothing)
+    parent_p = np.array([next((i for i in range(j + 1, n) if Lp[i, j]), -1) for j in range(n)])
+    assert any(parent_p[j] != j + 1 and parent_p[j] >= 0 and not _first_child_block(parent_p, j) for j in range(n))
+
+
+def _is_ancestor(parent, a, k):
+    while k >= 0:
+        k = parent[k]
+        if k == a:
+            return True
+    return False
+
+
+def _first_child_block(parent, j):
+    """True if positions after j up to parent[j] all lie in the subtree of parent[j] (postorder-like)."""
+    return all(_is_ancestor(parent, parent[j], k) for k in range(j + 1, parent[j]))

@@ -11,7 +11,7 @@ import math
 
 import numpy as np
 
-from ..analysis import symbolic_factor
+from ..analysis import etree_postorder, symbolic_factor
 from ..graph import Graph
 from ..kernels.mindegree import INT32_LIMIT, quotient_min_degree
 from . import register
@@ -164,7 +164,7 @@ def minimum_degree(graph: Graph, s: MinDegreeSettings, seed: int = 0):
     Returns
     -------
     perm : ndarray of int64
-        New position ``k`` holds old vertex ``perm[k]``.
+        New position ``k`` holds old vertex ``perm[k]``; a postorder of its elimination tree.
     info : dict
         Counts of pivots, mass-eliminated and merged vertices (``merged_initially`` of them
         before the first elimination), absorbed elements, workspace compactions, and postponed
@@ -232,7 +232,9 @@ def minimum_degree(graph: Graph, s: MinDegreeSettings, seed: int = 0):
     info["score"] = name
     if tried:
         info["nnz_factor_by_score"] = tried
-    return perm, info
+    # the same factor, with every elimination subtree in consecutive columns (what a supernodal
+    # factorization wants; see analysis.etree_postorder)
+    return etree_postorder(graph, perm), info
 
 
 def halo_minimum_degree(graph: Graph, ordered_mask, *, seed: int = 0, score: str = "degree",
