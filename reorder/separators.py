@@ -8,8 +8,10 @@ coarse eigenvectors are also interpolated with damped-Jacobi smoothing on every 
 finest level (the coarse separator weight predicts the final one poorly on 3-D meshes, measured:
 27-point 24³ grid, 808-850 vertices with one candidate carried, 746-850 with three plus smoothing;
 a plane has 576). The pieces
-(:func:`split_vector`, :func:`cover_separator`, :func:`refine_separator`, :func:`coarsen`) are public
-for tests and experiments. Inner loops live in :mod:`reorder.kernels.separators`.
+(:func:`split_vector`, :func:`cover_separator`, :func:`refine_separator`, :func:`coarsen` from
+:mod:`reorder.multilevel`) are public for tests and experiments. Inner loops live in
+:mod:`reorder.kernels.separators`; the whole step for small subproblems (no eigensolver) also runs
+compiled, in :func:`reorder.kernels.smallsep.cheap_separator`, with the same result.
 
 References
 ----------
@@ -38,6 +40,8 @@ from scipy.sparse.csgraph import maximum_bipartite_matching
 from .defaults import BALANCE, COARSE_SIZE
 from .graph import Graph
 from .kernels import separators as _k
+from .kernels import smallsep as _ks
+from .multilevel import Level, _local_random_order, coarsen  # noqa: F401  (public here too)
 from .kernels import traversal as _kt
 
 __all__ = [
@@ -71,22 +75,6 @@ class Separator:
     info: dict = field(default_factory=dict)
 
 
-@dataclass(frozen=True, eq=False)
-class Level:
-    """One graph of a multilevel hierarchy: CSR arrays with int64 edge and vertex weights and the
-    map ``cmap`` from this level's vertices to the next coarser level (None on the coarsest)."""
-
-    indptr: np.ndarray
-    indices: np.ndarray
-    ewgt: np.ndarray
-    vweight: np.ndarray
-    cmap: np.ndarray | None = None
-
-    @property
-    def n(self) -> int:
-        return self.indptr.size - 1
-
-
 _LIMIT = None
 
 
@@ -94,77 +82,6 @@ def _max_side(total: int, balance: float) -> int:
     """Largest side weight allowed by the balance window: ``floor((1 - balance) * total)``, at
     least ``ceil(total / 2)`` so a split always exists."""
     return int(max(np.floor((1.0 - balance) * total + 1e-9), -(-total // 2)))
-
-
-def _local_random_order(n: int, rng, block: int = 256) -> np.ndarray:
-    """A random visiting order that keeps memory locality: the blocks of ``block`` (a power of two)
-    consecutive vertices are visited in random order, each block in a random order of its own (one
-    random permutation of the block, composed with a random XOR mask per block).
-
-    A fully random order makes the matching cache-bound: on a 10⁶-vertex grid the finest-level
-    matching took 363 ms with it and 94 ms with 256-vertex blocks, and the contraction 104 and 61 ms
-    (measured); the blocks also matched slightly more vertices (coarse/fine 0.512 against 0.544).
-    """
-    if n <= 2048:  # cache-resident anyway; one call is cheaper (50 us against 5 us at n = 50)
-        return rng.permutation(n).astype(np.int64)
-    nb = -(-n // block)
-    bperm = rng.permutation(nb).astype(np.int64)
-    pattern = rng.permutation(block).astype(np.int64)
-    mask = rng.integers(0, block, size=nb, dtype=np.int64)
-    visit = (bperm[:, None] * block + (pattern[None, :] ^ mask[:, None])).ravel()
-    return visit[visit < n]
-
-
-def coarsen(indptr, indices, *, seed: int = 0, coarse_size: int = COARSE_SIZE, min_ratio: float = 0.9,
-            ewgt=None, vweight=None, sorted_visit: bool = False) -> list[Level]:
-    """Multilevel hierarchy by repeated heavy-edge matching until at most ``coarse_size`` vertices
-    remain (or a matching shrinks the graph by less than ``1 - min_ratio``).
-
-    Parameters
-    ----------
-    indptr, indices : ndarray of int64
-        CSR of the (connected) graph.
-    seed : int
-        Seeds the random visiting order of the matching (``np.random.default_rng(seed)``; a
-        locality-keeping random order, see :func:`_local_random_order`).
-    coarse_size : int
-    min_ratio : float
-    ewgt, vweight : ndarray of int64, optional
-        Edge and vertex weights (ones if omitted).
-
-    Returns
-    -------
-    list of Level
-        Finest first; each level's ``cmap`` maps it to the next one.
-
-    References
-    ----------
-    Hendrickson & Leland (1995); G. Karypis and V. Kumar, "A fast and high quality multilevel scheme
-    for partitioning irregular graphs", SIAM J. Sci. Comput. 20 (1998) 359–392 (heavy-edge matching).
-    """
-    n = indptr.size - 1
-    ewgt = np.ones(indices.size, dtype=np.int64) if ewgt is None else np.asarray(ewgt, dtype=np.int64)
-    vweight = np.ones(n, dtype=np.int64) if vweight is None else np.asarray(vweight, dtype=np.int64)
-    rng = np.random.default_rng(seed)
-    total = int(vweight.sum())
-    maxv = max(2, int(1.5 * total / max(coarse_size, 1)))
-    levels = []
-    cur = Level(indptr, indices, ewgt, vweight)
-    while cur.n > coarse_size:
-        visit = _local_random_order(cur.n, rng)
-        if sorted_visit:
-            visit = visit[np.argsort(np.diff(cur.indptr)[visit], kind="stable")]
-        # ties by index on the input graph (its numbering often follows the geometry), by the random
-        # visiting order on coarse levels (numbered by their smaller fine vertex, see the kernel)
-        nc, cmap, match = _k.heavy_edge_matching(cur.indptr, cur.indices, cur.ewgt, cur.vweight, visit, maxv,
-                                                 len(levels) > 0)
-        if nc > min_ratio * cur.n:
-            break
-        ci, cj, cw, cv = _k.contract(cur.indptr, cur.indices, cur.ewgt, cur.vweight, cmap, match, nc)
-        levels.append(Level(cur.indptr, cur.indices, cur.ewgt, cur.vweight, cmap))
-        cur = Level(ci, cj, cw, cv)
-    levels.append(cur)
-    return levels
 
 
 def split_vector(indptr, indices, vector, *, ewgt=None, vweight=None, balance: float = BALANCE,
@@ -333,7 +250,8 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
     indptr, indices : ndarray of int64
         CSR of a connected graph (n ≥ 3).
     seed : int
-        Seeds the matchings, the breadth-first starts and the eigensolver.
+        Seeds the matchings and the breadth-first starts (one SplitMix64 stream,
+        :mod:`reorder.kernels.smallsep`) and the eigensolver.
     balance : float
         Balance window: no side heavier than ``floor((1 - balance) · n)`` after refinement, and the
         spectral split keeps each side at least ``balance`` of the coarsest graph.
@@ -373,8 +291,9 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
     Positive Definite Systems", Prentice-Hall (1981) (level structures).
     """
     n = indptr.size - 1
+    st = _ks.rng_state(int(seed))  # one random stream for the coarsening and the breadth-first starts
     if multilevel:
-        levels = coarsen(indptr, indices, seed=seed, coarse_size=coarse_size)
+        levels = coarsen(indptr, indices, seed=seed, coarse_size=coarse_size, state=st)
     else:
         levels = [Level(indptr, indices, np.ones(indices.size, dtype=np.int64), np.ones(n, dtype=np.int64))]
     c = levels[-1]
@@ -388,12 +307,11 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
             vecs = vecs[:1]
     nspectral = len(vecs)
     if mode == "window" or not vecs:
-        rng = np.random.default_rng(seed)
         # the farthest vertex from a random one (not from vertex 0: coarse vertices keep the fine
         # numbering's order, so vertex 0 sits in a corner of a grid-like graph)
-        r0 = int(rng.integers(0, c.n))
+        r0 = int(_ks.rand_below(st, c.n))
         starts = [int(np.argmax(_kt.bfs_levels(c.indptr, c.indices, r0)))]
-        starts += [int(x) for x in rng.integers(0, c.n, size=max(bfs_starts - 1, 0))]
+        starts += [int(_ks.rand_below(st, c.n)) for _ in range(max(bfs_starts - 1, 0))]
         for s0 in starts[:max(bfs_starts, 1)]:
             vecs.append(_kt.bfs_levels(c.indptr, c.indices, s0).astype(np.float64))
     cands = []

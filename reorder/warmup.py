@@ -29,9 +29,9 @@ _KERNELS = {
     "rcm": (),
     "spectral": ("traversal", "envelope"),
     "mindegree": ("mindegree",),
-    "nd": ("traversal", "separators", "mindegree"),
-    "nd-fast": ("traversal", "separators", "mindegree"),
-    "rsb": ("traversal", "separators", "mindegree"),
+    "nd": ("traversal", "separators", "smallsep", "mindegree"),
+    "nd-fast": ("traversal", "separators", "smallsep", "mindegree"),
+    "rsb": ("traversal", "separators", "smallsep", "mindegree"),
     "auto": ("mindegree",),
 }
 
@@ -95,11 +95,20 @@ def _compile_symbolic() -> None:
 
 def _compile_separators() -> None:
     """The separator kernels alone (no minimum degree): one multilevel vertex separator."""
+    import numpy as np
+
+    from .kernels import smallsep
     from .separators import check_separator, vertex_separator
 
     g = _grid(_SIZES[-1])
     sep = vertex_separator(g.indptr, g.indices, seed=0)
     check_separator(g.indptr, g.indices, sep.part)
+    # the compiled small-subproblem dissection, with the argument types nested dissection passes
+    n = g.n
+    smallsep.dissect_small(g.indptr, g.indices, np.arange(n, dtype=np.int64), 0, 0, False,
+                           np.full(n, -1, dtype=np.int64), np.full(n, -1, dtype=np.int64),
+                           np.full(n, -1, dtype=np.int64), 50, np.zeros(1, dtype=np.int64), 1, 0, 1, float(n), 1, 1,
+                           0.3, 100, True)
 
 
 def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load: bool = True) -> bool:

@@ -12,7 +12,7 @@ import numpy as np
 from numba import njit
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def induced_subgraph(indptr, indices, vertices, local):
     """Induced subgraph on ``vertices`` (relabelled 0..m-1 in the given order).
 
@@ -45,7 +45,7 @@ def induced_subgraph(indptr, indices, vertices, local):
     return sub_indptr, sub_indices
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def component_labels(indptr, indices):
     """Connected components by breadth-first search: ``(count, labels)``, labels in order of the
     smallest vertex of each component."""
@@ -73,7 +73,7 @@ def component_labels(indptr, indices):
     return nc, label
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight, rank_ties):
     """Heavy-edge matching: visit vertices in ``visit`` order and match each unmatched vertex with
     the unmatched neighbour joined by the heaviest edge, subject to the coarse vertex weight staying
@@ -126,7 +126,7 @@ def heavy_edge_matching(indptr, indices, ewgt, vweight, visit, maxvweight, rank_
     return nc, cmap, match
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def contract(indptr, indices, ewgt, vweight, cmap, match, nc):
     """Coarse graph of a matching: vertex weights and parallel edge weights are summed."""
     n = indptr.size - 1
@@ -168,7 +168,7 @@ def contract(indptr, indices, ewgt, vweight, cmap, match, nc):
     return cindptr, cind[:k].copy(), cw[:k].copy(), cvw
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def sweep_cuts(indptr, indices, ewgt, order):
     """Edge-cut weight of every prefix split of ``order``: ``cut[k]`` is the weight of the edges
     between ``order[:k]`` and ``order[k:]``, for k = 0..n (O(|E|))."""
@@ -192,7 +192,7 @@ def sweep_cuts(indptr, indices, ewgt, order):
     return cut
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def prefix_split(indptr, indices, ewgt, vweight, order, balance, median):
     """Two-way split of ``order`` at the best prefix: side 0 is ``order[:k]``.
 
@@ -237,7 +237,7 @@ def prefix_split(indptr, indices, ewgt, vweight, order, balance, median):
     return part, cut[k]
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def cut_bipartite(indptr, indices, part):
     """The bipartite graph of cut edges between side 0 (rows) and side 1 (columns).
 
@@ -289,7 +289,7 @@ def cut_bipartite(indptr, indices, part):
     return rows, cols, bptr, bind
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def konig_cover(bptr, bind, row_match, ncols):
     """Minimum vertex cover of a bipartite graph from a maximum matching (König's theorem).
 
@@ -328,13 +328,13 @@ def konig_cover(bptr, bind, row_match, ncols):
     return ~zr, zc
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def _viol(w0, w1, maxside):
     m = max(w0, w1)
     return m - maxside if m > maxside else 0
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def _move_gains(indptr, indices, vweight, part, v):
     """Gains of moving separator vertex ``v`` to side 0 and to side 1: its weight minus the weight
     of the neighbours on the other side, which would have to enter the separator."""
@@ -349,7 +349,7 @@ def _move_gains(indptr, indices, vweight, part, v):
     return g0, g1
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def _heap_push(h, size, key):
     """Push ``key`` on the binary min-heap ``h[:size]`` (grown by doubling); returns ``(h, size)``."""
     if size == h.size:
@@ -367,7 +367,7 @@ def _heap_push(h, size, key):
     return h, size + 1
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def _heap_pop(h, size):
     """Remove the least key of the binary min-heap ``h[:size]``; returns the new size."""
     size -= 1
@@ -389,7 +389,7 @@ def _heap_pop(h, size):
     return size
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
     """Fiduccia–Mattheyses refinement of a vertex separator, in place.
 
@@ -581,7 +581,7 @@ def vertex_fm(indptr, indices, vweight, part, maxside, passes, limit):
     return w
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def edges_cross(indptr, indices, part):
     """Number of edges joining side 0 and side 1 directly (0 for a valid separator)."""
     n = indptr.size - 1
@@ -595,7 +595,7 @@ def edges_cross(indptr, indices, part):
     return bad
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def boundary_cover(indptr, indices, part, vweight):
     """Cheap vertex separator from a two-way split, in place: the lighter of the two one-sided
     boundaries (vertices of one side with a neighbour on the other) becomes the separator."""
@@ -619,7 +619,7 @@ def boundary_cover(indptr, indices, part, vweight):
             part[v] = 2
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def with_halo(indptr, indices, vertices, mark):
     """``vertices`` together with their neighbours outside them (the halo), sorted, and a flag per
     returned vertex (True for ``vertices``, False for the halo). ``mark`` is an int8 scratch array

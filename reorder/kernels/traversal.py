@@ -6,7 +6,7 @@ import numpy as np
 from numba import njit
 
 
-@njit(cache=True)
+@njit(cache=True, nogil=True)
 def bfs_levels(indptr, indices, start):
     """Breadth-first distance of every vertex from ``start`` (``-1`` where unreachable)."""
     n = indptr.size - 1

@@ -136,6 +136,10 @@ class NdSettings:
                                         "(none: try all)", minimum=0.0)
     restarts: int | None = setting(None, "whole runs with different seeds, best kept; default " + _TABLE, minimum=1)
     restart_key: str = setting("nnz", "what the restarts minimise", choices=("nnz", "ops"))
+    compiled: bool = setting(True, "dissect subproblems below spectral_min in one compiled call each (same result "
+                             "as the Python loop, faster)")
+    threads: int | None = setting(None, "worker threads for independent subtrees (the result does not depend on "
+                                  "it); default: REORDER_THREADS or min(2, cores)", minimum=1)
 
     def __post_init__(self):
         for field in ("hybrid_scores", "hybrid_wide_scores"):

@@ -3,18 +3,28 @@ the leaves, then let the subtrees choose (:mod:`.subtree`)."""
 
 from __future__ import annotations
 
+import threading
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 
 from ...graph import Graph
 from ...kernels import separators as _k
+from ...kernels import smallsep as _ks
 from ...separators import vertex_separator
 from ..blocks import order_blocks
-from ..seeds import trial_seed
+from ...threads import ordering_threads
+from ..seeds import path_index, trial_seed
 from .presets import Resolved
 from .subtree import subtree_choice
 from .tree import FORMAT, VERSION
 
-__all__ = ["dissect"]
+__all__ = ["dissect", "SPAWN_MIN", "SPAWN_PARTS"]
+
+#: with worker threads, subproblems of at least ``max(SPAWN_MIN, n / SPAWN_PARTS)`` vertices (below
+#: the root) are tasks of their own; smaller ones are dissected by the task that found them
+SPAWN_MIN = 5000
+SPAWN_PARTS = 32
 
 
 def _pack_components(labels: np.ndarray, ncomp: int, leaf_size: int) -> list[np.ndarray]:
@@ -59,38 +69,68 @@ def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool) 
     return part
 
 
-def _split(graph: Graph, s, r: Resolved, seed: int):
-    """Dissect down to the leaves: ``(perm with the separators placed, leaf_key, nodes,
-    separator vertex count)``; ``leaf_key[v]`` is the start position of the leaf holding ``v``
-    (-1 for separator vertices)."""
-    n = graph.n
-    leaf_size = r.leaf_size
-    perm = np.full(n, -1, dtype=np.int64)
-    leaf_key = np.full(n, -1, dtype=np.int64)
+class _Run:
+    """Shared state of one dissection: the graph and settings, the arrays every task writes (disjoint
+    parts of ``perm`` and ``leaf_key``), and one scratch array per thread."""
+
+    def __init__(self, graph: Graph, s, r: Resolved, seed: int, threads: int):
+        self.graph, self.s, self.r, self.seed = graph, s, r, seed
+        self.n = graph.n
+        self.perm = np.full(self.n, -1, dtype=np.int64)
+        self.leaf_key = np.full(self.n, -1, dtype=np.int64)
+        self.threads = threads
+        # subproblems at least this large become tasks of their own when threads are available
+        self.spawn_min = max(SPAWN_MIN, self.n // SPAWN_PARTS) if threads > 1 else self.n + 1
+        self._tls = threading.local()
+        # below spectral_min the separators need no eigensolver: whole subtrees run compiled
+        self.compiled = bool(s.multilevel and s.refine and s.split == "window" and s.compiled)
+        mod = (1 << 31) - 1
+        ntr = max(r.trials, r.top_trials, 1)
+        self.bases = np.array([((seed + 7 * t) * 1_000_003) % mod for t in range(ntr)], dtype=np.int64)
+        self.submit = None  # set by _split: task arguments -> task id
+
+    def scratch(self) -> np.ndarray:
+        """This thread's scratch array for :func:`~reorder.kernels.separators.induced_subgraph`."""
+        a = getattr(self._tls, "local", None)
+        if a is None:
+            a = self._tls.local = np.full(self.n, -1, dtype=np.int64)
+        return a
+
+
+def _task(run: _Run, verts: np.ndarray, start: int, key: int, connected: bool):
+    """Dissect one subproblem down to its leaves (or down to the subproblems handed to other tasks).
+
+    Returns ``(nodes, separator vertex count)``: the subtree's nodes in depth-first preorder with
+    local parent ids (-1 for the task's root); a subproblem handed to another task is a node of kind
+    ``"task"`` holding that task's id. Seeds depend on a subproblem's place in the tree only
+    (:func:`~reorder.orderings.seeds.path_index`), so the result does not depend on the threads.
+    """
+    graph, s, r = run.graph, run.s, run.r
+    n, leaf_size = run.n, run.r.leaf_size
+    perm, leaf_key, local = run.perm, run.leaf_key, run.scratch()
     nodes: list[dict] = []
-    local = np.full(n, -1, dtype=np.int64)
-    # task: (vertices (increasing old ids), start, parent, known_connected)
-    stack = [(np.arange(n, dtype=np.int64), 0, -1, False)]
-    n_sep_vertices = 0
+    nsep = 0
+    # stack of (vertices (increasing old ids), start, local parent, path index, known_connected)
+    stack = [(verts, start, -1, key, connected)]
 
     def new_node(parent, start, stop, kind):
-        nid = len(nodes)
-        depth = 0 if parent < 0 else nodes[parent]["depth"] + 1
-        nodes.append({"id": nid, "parent": int(parent), "depth": depth, "kind": kind, "children": [],
-                      "start": int(start), "stop": int(stop), "separator": 0, "sizes": []})
-        if parent >= 0:
-            nodes[parent]["children"].append(nid)
-        return nid
-
-    def make_leaf(verts, start, parent):
-        new_node(parent, start, start + verts.size, "leaf")
-        leaf_key[verts] = start
+        nodes.append({"parent": parent, "kind": kind, "start": int(start), "stop": int(stop), "separator": 0,
+                      "sizes": []})
+        return len(nodes) - 1
 
     while stack:
-        verts, start, parent, connected = stack.pop()
+        verts, start, parent, key, connected = stack.pop()
         m = verts.size
         if m <= leaf_size:
-            make_leaf(verts, start, parent)
+            new_node(parent, start, start + m, "leaf")
+            leaf_key[verts] = start
+            continue
+        if parent >= 0 and m >= run.spawn_min:
+            nid = new_node(parent, start, start + m, "task")
+            nodes[nid]["task"] = run.submit(verts, start, key, connected)
+            continue
+        if run.compiled and m < r.spectral_min:  # the whole subtree in one compiled call
+            nsep += _compiled_subtree(run, nodes, verts, start, key, connected, parent)
             continue
         ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, verts, local)
         if not connected:
@@ -101,30 +141,118 @@ def _split(graph: Graph, s, r: Resolved, seed: int):
                 nodes[nid]["sizes"] = [int(g.size) for g in groups]
                 pos = start
                 tasks = []
-                for g in groups:
-                    tasks.append((verts[g], pos, nid, g.size > leaf_size))
+                for j, g in enumerate(groups):
+                    tasks.append((verts[g], pos, nid, path_index(key, j), g.size > leaf_size))
                     pos += g.size
                 stack.extend(reversed(tasks))
                 continue
-        part = _best_separator(ip, ix, s, r, seed=seed, node=len(nodes), top=m >= s.top_fraction * n)
+        part = _best_separator(ip, ix, s, r, seed=run.seed, node=key, top=m >= s.top_fraction * n)
         A, B, S = verts[part == 0], verts[part == 1], verts[part == 2]
         if A.size == 0 or B.size == 0 or S.size == 0:  # no useful separator (e.g. a clique)
-            make_leaf(verts, start, parent)
+            new_node(parent, start, start + m, "leaf")
+            leaf_key[verts] = start
             continue
         nid = new_node(parent, start, start + m, "separator")
         nodes[nid]["separator"] = int(S.size)
         nodes[nid]["sizes"] = [int(A.size), int(B.size)]
         perm[start + m - S.size:start + m] = S
-        n_sep_vertices += int(S.size)
-        stack.append((B, start + A.size, nid, False))
-        stack.append((A, start, nid, False))
-    return perm, leaf_key, nodes, n_sep_vertices
+        nsep += int(S.size)
+        stack.append((B, start + A.size, nid, path_index(key, 1), False))
+        stack.append((A, start, nid, path_index(key, 0), False))
+    return nodes, nsep
+
+
+def _compiled_subtree(run: _Run, nodes: list, verts, start: int, key: int, connected: bool, parent: int) -> int:
+    """Dissect a subproblem below ``spectral_min`` by :func:`~reorder.kernels.smallsep.dissect_small`
+    (same steps, seeds and result as the Python loop); its nodes are appended to ``nodes`` (local
+    parents shifted, the root under ``parent``). Returns the separator vertex count."""
+    s, r = run.s, run.r
+    kind, par, st, sp, sep, sptr, sizes, nsep = _ks.dissect_small(
+        run.graph.indptr, run.graph.indices, verts, int(start), int(key), bool(connected), run.scratch(), run.perm,
+        run.leaf_key, int(r.leaf_size), run.bases, int(r.trials), int(s.trials_min), int(r.top_trials),
+        float(s.top_fraction * run.n), int(r.keep[0]), int(r.keep[1]), float(s.balance), int(s.coarse_size),
+        bool(s.ratio_key))
+    off = len(nodes)
+    names = ("leaf", "separator", "components")
+    par = np.where(par < 0, parent, par + off).tolist()
+    sizes = sizes.tolist()
+    sptr = sptr.tolist()
+    for i, (k, a, b, m) in enumerate(zip(kind.tolist(), st.tolist(), sp.tolist(), sep.tolist())):
+        nodes.append({"parent": par[i], "kind": names[k], "start": a, "stop": b, "separator": m,
+                      "sizes": sizes[sptr[i]:sptr[i + 1]]})
+    return int(nsep)
+
+
+def _assemble(results: dict, root: int) -> list[dict]:
+    """The separator tree's node list (depth-first preorder, global ids) from the tasks' local
+    node lists: a ``"task"`` node is replaced by that task's subtree where it stands."""
+    out: list[dict] = []
+
+    def emit(tid, gparent):
+        nodes = results[tid][0]
+        gid = [0] * len(nodes)
+        for i, nd in enumerate(nodes):
+            p = gparent if nd["parent"] < 0 else gid[nd["parent"]]
+            if nd["kind"] == "task":
+                emit(nd["task"], p)
+                continue
+            gid[i] = len(out)
+            out.append({"id": gid[i], "parent": int(p), "depth": 0 if p < 0 else out[p]["depth"] + 1,
+                        "kind": nd["kind"], "children": [], "start": nd["start"], "stop": nd["stop"],
+                        "separator": nd["separator"], "sizes": nd["sizes"]})
+            if p >= 0:
+                out[p]["children"].append(gid[i])
+
+    emit(root, -1)
+    return out
+
+
+def _split(graph: Graph, s, r: Resolved, seed: int, threads: int = 1):
+    """Dissect down to the leaves: ``(perm with the separators placed, leaf_key, nodes,
+    separator vertex count)``; ``leaf_key[v]`` is the start position of the leaf holding ``v``
+    (-1 for separator vertices).
+
+    With ``threads`` > 1, subproblems of at least ``max(SPAWN_MIN, n / SPAWN_PARTS)`` vertices below
+    the root become tasks of a thread pool (the kernels release the GIL); the result is the same.
+    """
+    run = _Run(graph, s, r, seed, threads)
+    results: dict = {}
+    lock = threading.Lock()
+    root_args = (np.arange(graph.n, dtype=np.int64), 0, 0, False)
+    if threads <= 1:
+        run.submit = None  # spawn_min > n: never called
+        results[0] = _task(run, *root_args)
+    else:
+        futures: list = []
+        with ThreadPoolExecutor(max_workers=threads, thread_name_prefix="reorder-nd") as pool:
+            def submit(*args):
+                with lock:
+                    tid = len(futures)
+                    futures.append(pool.submit(_store, tid, args))
+                return tid
+
+            def _store(tid, args):
+                results[tid] = _task(run, *args)
+
+            run.submit = submit
+            submit(*root_args)
+            i = 0
+            while True:  # a task registers the tasks it spawns before it finishes
+                with lock:
+                    if i >= len(futures):
+                        break
+                    f = futures[i]
+                f.result()
+                i += 1
+    nodes = _assemble(results, 0)
+    nsep = sum(v[1] for v in results.values())
+    return run.perm, run.leaf_key, nodes, nsep
 
 
 def dissect(graph: Graph, s, r: Resolved, *, seed: int):
     """One nested-dissection run with settings ``s`` resolved to ``r``: ``(perm, info)`` as
     :func:`reorder.orderings.nd.nested_dissection` returns them."""
-    perm, leaf_key, nodes, n_sep_vertices = _split(graph, s, r, seed)
+    perm, leaf_key, nodes, n_sep_vertices = _split(graph, s, r, seed, ordering_threads(s.threads))
     leaf_mask = leaf_key >= 0
     ordered, used = order_blocks(graph, leaf_key, leaf_mask, method=s.leaf_order, seed=seed)
     if ordered.size:

@@ -1,0 +1,137 @@
+"""Tests of the compiled small-subproblem path and the worker threads of nested dissection.
+
+Outside references: SciPy's connected_components (a separator disconnects its sides), SciPy SuperLU
+(nnz(L) of the ordering, structural count on an M-matrix), NumPy's stable argsort.
+"""
+
+from __future__ import annotations
+
+import importlib
+
+import numpy as np
+import pytest
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from reorder.analysis import symbolic_factor
+from reorder.graph import from_matrix
+from reorder.kernels import smallsep
+from reorder.orderings import order
+from reorder.orderings.nd import SeparatorTree
+from reorder.orderings.seeds import path_index
+from reorder.separators import vertex_separator
+
+from conftest import grid2d, grid3d, m_matrix, superlu_nnz_l
+
+dissect_module = importlib.import_module("reorder.orderings.nd.dissect")
+
+
+def _random_geometric(n, radius, seed):
+    """A random geometric graph in the unit square (a scenario of our own: sensor plates)."""
+    rng = np.random.default_rng(seed)
+    x = rng.random((n, 2))
+    d = np.sqrt(((x[:, None, :] - x[None, :, :]) ** 2).sum(-1))
+    A = sp.csr_matrix((d < radius) & (d > 0), dtype=np.float64)
+    ncomp, lab = connected_components(A, directed=False)
+    keep = np.flatnonzero(lab == np.bincount(lab).argmax())
+    return A[keep][:, keep].tocsr()
+
+
+def _separates(A, part):
+    """SciPy check: with the separator removed, no connected component holds both sides."""
+    keep = np.flatnonzero(part != 2)
+    _, lab = connected_components(A[keep][:, keep], directed=False)
+    side = part[keep]
+    both = np.intersect1d(lab[side == 0], lab[side == 1])
+    return both.size == 0
+
+
+CASES = [("grid 25x25", lambda: grid2d(25)), ("grid 9^3", lambda: grid3d(9)),
+         ("geometric 700", lambda: _random_geometric(700, 0.08, 3))]
+
+
+@pytest.mark.parametrize("name,make", CASES)
+def test_compiled_separator_equals_python_path_and_separates(name, make):
+    A = make()
+    G = from_matrix(A)
+    for seed, keep in ((0, 1), (5, 3), (11, 2)):
+        py = vertex_separator(G.indptr, G.indices, seed=seed, spectral_min=10**9, keep=keep)
+        cp = smallsep.cheap_separator(G.indptr, G.indices, seed, 0.3, 100, keep, 4, 8)
+        assert np.array_equal(py.part, cp), name  # same steps, same random stream
+        a, b, s = np.bincount(cp, minlength=3)
+        assert a > 0 and b > 0 and 0 < s < 0.25 * G.n
+        assert _separates(G.to_csr(), cp)
+
+
+@pytest.mark.parametrize("name,make", CASES)
+@pytest.mark.parametrize("effort", ["fast", "normal"])
+def test_compiled_dissection_equals_python_loop(name, make, effort):
+    A = make()
+    G = from_matrix(A)
+    py = order(G, "nd", effort=effort, compiled=False, threads=1, hybrid_max=0)
+    cp = order(G, "nd", effort=effort, compiled=True, threads=1, hybrid_max=0)
+    assert np.array_equal(py.perm, cp.perm)
+    assert py.info["separator_tree"] == cp.info["separator_tree"]
+    tree = SeparatorTree.from_json(cp.info["separator_tree"])
+    assert tree.validate(cp.perm, G)  # every separator node disconnects its children
+    # the counts: exact symbolic count equals SuperLU's structural count on an M-matrix
+    nnz = symbolic_factor(G, cp.perm).nnz_factor
+    assert nnz == symbolic_factor(G, py.perm).nnz_factor
+    M = m_matrix(A)
+    assert nnz == superlu_nnz_l(M[cp.perm][:, cp.perm])
+
+
+def test_compiled_tree_separators_disconnect_sides():
+    """Every separator of the compiled subtrees, checked with SciPy on the subgraph it splits."""
+    A = _random_geometric(1500, 0.05, 8)
+    G = from_matrix(A)
+    o = order(G, "nd", effort="fast", threads=1, hybrid_max=0, leaf_size=40)
+    nodes = o.info["separator_tree"]["nodes"]
+    checked = 0
+    for nd in nodes:
+        if nd["kind"] != "separator":
+            continue
+        s, t, m = nd["start"], nd["stop"], nd["separator"]
+        verts = o.perm[s:t]
+        part = np.zeros(t - s, dtype=np.int8)
+        part[nd["sizes"][0]:t - s - m] = 1
+        part[t - s - m:] = 2
+        assert _separates(A[verts][:, verts], part)
+        checked += 1
+    assert checked > 10
+
+
+def test_threads_give_the_same_permutation(monkeypatch):
+    # subproblems become tasks of their own from 300 vertices: many tasks on a small graph
+    monkeypatch.setattr(dissect_module, "SPAWN_MIN", 300)
+    monkeypatch.setattr(dissect_module, "SPAWN_PARTS", 10**6)
+    for A, efforts in ((grid2d(50), ("fast", "normal")), (grid3d(11), ("fast",))):
+        G = from_matrix(A)
+        for effort in efforts:
+            one = order(G, "nd", effort=effort, threads=1, seed=3)
+            two = order(G, "nd", effort=effort, threads=2, seed=3)
+            assert np.array_equal(one.perm, two.perm)
+            assert one.info["separator_tree"] == two.info["separator_tree"]
+    assert SeparatorTree.from_json(two.info["separator_tree"]).validate(two.perm, G)
+
+
+def test_thread_count_setting(monkeypatch):
+    from reorder.threads import ENV, ordering_threads
+
+    monkeypatch.setenv(ENV, "3")
+    assert ordering_threads() == 3
+    assert ordering_threads(1) == 1
+    monkeypatch.setenv(ENV, "zero")
+    assert 1 <= ordering_threads() <= 2
+
+
+def test_kernel_helpers_match_python():
+    for p, c in ((0, 0), (0, 1), (12345, 3), (2**31 - 2, 7)):
+        assert smallsep.path_index(p, c) == path_index(p, c)
+    d = np.array([3, 1, 2, 1, 0, 3, -1, 2])
+    assert np.array_equal(smallsep.stable_level_order(d), np.argsort(d, kind="stable"))  # NumPy reference
+    lab = np.array([2, 0, 1, 2, 0, 3, 3, 1, 0], dtype=np.int64)
+    members, gptr = smallsep._pack(lab, 4, 3)
+    groups = [members[gptr[i]:gptr[i + 1]].tolist() for i in range(gptr.size - 1)]
+    ref = [g.tolist() for g in dissect_module._pack_components(lab, 4, 3)]
+    assert groups == ref
