@@ -53,7 +53,7 @@ def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool) 
     """Part labels (0, 1, 2 = separator) of the best of the trials on one connected subproblem."""
     m = ip.size - 1
     part, best = None, None
-    ntr = max(1, r.trials) if m >= s.trials_min else 1
+    ntr = max(1, r.trials) if m >= r.trials_min else 1
     if top:
         ntr = max(ntr, r.top_trials)
     for t in range(ntr):
@@ -169,7 +169,7 @@ def _compiled_subtree(run: _Run, nodes: list, verts, start: int, key: int, conne
     s, r = run.s, run.r
     kind, par, st, sp, sep, sptr, sizes, nsep = _ks.dissect_small(
         run.graph.indptr, run.graph.indices, verts, int(start), int(key), bool(connected), run.scratch(), run.perm,
-        run.leaf_key, int(r.leaf_size), run.bases, int(r.trials), int(s.trials_min), int(r.top_trials),
+        run.leaf_key, int(r.leaf_size), run.bases, int(r.trials), int(r.trials_min), int(r.top_trials),
         float(s.top_fraction * run.n), int(r.keep[0]), int(r.keep[1]), float(s.balance), int(s.coarse_size),
         bool(s.ratio_key))
     off = len(nodes)

@@ -7,7 +7,9 @@ texts) points here; the thresholds are named once, below.
 
 Reading the table: ``normal`` polishes graphs up to :data:`LARGE` vertices fully (six trials on
 the top subproblems carrying three smoothed candidates, three top eigenvectors, every pivot rule and
-multisection in the subtree choice up to :data:`MID`) and uses the cheaper settings above; ``fast``
+multisection in the subtree choice up to :data:`MID`) and goes over to the cheap ``huge`` settings
+gradually between :data:`LARGE` and :data:`RAMP_END` vertices (:func:`ramp`: no step in time per
+n·log₂n where a preset would switch at once; its ``large`` row is not used); ``fast``
 uses the cheaper settings at every size (one trial per subproblem, no smoothing, the subtree choice
 up to ``hybrid_max`` and only the ``degree`` rule, no multisection); ``best`` polishes fully at every
 size and keeps the least nnz(L) of three restarts. Why each value is what it is (with the
@@ -18,9 +20,12 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from ..records import EFFORTS
 
-__all__ = ["EFFORTS", "MID", "LARGE", "HUGE", "CLIMB", "ALL_RULES", "TABLE", "size_class", "Resolved", "resolve"]
+__all__ = ["EFFORTS", "MID", "LARGE", "HUGE", "RAMP_END", "CLIMB", "ALL_RULES", "TABLE", "size_class", "ramp",
+           "Resolved", "resolve"]
 
 
 #: from this many vertices ("mid"): the cheaper settings give the top subproblems 2 trials carrying
@@ -31,6 +36,8 @@ LARGE = 100_000
 #: above this many vertices ("huge"): larger leaves, one trial everywhere, the subtree choice does
 #: not climb ("best" excepted)
 HUGE = 300_000
+#: ``normal`` reaches the ``huge`` row at this many vertices, from the ``mid`` row at :data:`LARGE`
+RAMP_END = 800_000
 #: the subtree choice climbs up to subtrees of this size while minimum degree keeps winning
 CLIMB = 100_000
 
@@ -91,14 +98,49 @@ class Resolved:
     hybrid_climb: int
     multisection: bool
     restarts: int
+    trials_min: int = 0
+
+
+def ramp(n: int) -> dict | None:
+    """The ``normal`` settings for ``LARGE < n < RAMP_END`` vertices: between the ``mid`` row (at
+    :data:`LARGE`) and the ``huge`` row (at :data:`RAMP_END`), at ``f = log(n / LARGE) / log(RAMP_END
+    / LARGE)``; None outside that range.
+
+    Sizes and limits go geometrically (leaf size 50 → 400, ``spectral_min`` 500 → 2000, the subtree
+    choice's reach ``hybrid_max`` n → 2000 and ``hybrid_climb``, the all-rules reach
+    ``hybrid_wide``); the second trial is kept on the subproblems above ``trials_min``, which goes
+    from the leaf size to n; top trials 6 → 1, carried candidates 3 → 1 and smoothing steps 4 → 0
+    go down one at a time at different sizes, and the third top eigenvector stops at f = 1/2. So the
+    effort falls by many small steps instead of one (a jump of 8× in time per n·log₂n between 312²
+    and 349² grids, measured before).
+    """
+    if not LARGE < n < RAMP_END:
+        return None
+    f = float(np.log(n / LARGE) / np.log(RAMP_END / LARGE))
+    a, b = TABLE["normal", "mid"], TABLE["normal", "huge"]
+
+    def geo(x, y):
+        return int(round(x ** (1.0 - f) * y ** f))
+
+    def lin(x, y):
+        return int(round(x + (y - x) * f))
+
+    leaf = geo(a["leaf_size"], b["leaf_size"])
+    return dict(a, top_trials=geo(a["top_trials"], b["top_trials"]), keep=lin(a["keep"], b["keep"]),
+                top_keep=lin(a["top_keep"], b["top_keep"]), smooth=lin(a["smooth"], b["smooth"]),
+                top_smooth=lin(a["top_smooth"], b["top_smooth"]), spectral_min=geo(a["spectral_min"], b["spectral_min"]),
+                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < 0.5 else b["top_eigenvectors"],
+                hybrid_max=geo(n, b["hybrid_max"]), hybrid_wide=geo(a["hybrid_wide"], a["leaf_size"]),
+                hybrid_climb=geo(CLIMB, b["hybrid_max"]), trials_min=geo(leaf, n))
 
 
 def resolve(s, n: int) -> Resolved:
-    """Fill the settings ``s`` left at None from :data:`TABLE` for a graph of ``n`` vertices.
+    """Fill the settings ``s`` left at None from :data:`TABLE` (for ``normal`` between
+    :data:`LARGE` and :data:`RAMP_END` vertices, from :func:`ramp`) for a graph of ``n`` vertices.
 
     An explicit ``keep`` or ``smooth`` applies to the top subproblems too.
     """
-    row = TABLE[s.effort, size_class(n)]
+    row = (ramp(n) if s.effort == "normal" else None) or TABLE[s.effort, size_class(n)]
 
     def pick(name, column=None):
         v = getattr(s, name)
@@ -117,4 +159,5 @@ def resolve(s, n: int) -> Resolved:
         eigenvectors=(int(s.eigenvectors), int(top_eig)), spectral_min=int(pick("spectral_min")),
         hybrid_max=int(whole(pick("hybrid_max"))), hybrid_wide=int(whole(pick("hybrid_wide"))),
         hybrid_scores=tuple(pick("hybrid_scores")), hybrid_climb=int(pick("hybrid_climb")),
-        multisection=bool(pick("multisection")), restarts=int(pick("restarts")))
+        multisection=bool(pick("multisection")), restarts=int(pick("restarts")),
+        trials_min=max(int(s.trials_min), int(row.get("trials_min", 0))))
