@@ -24,6 +24,7 @@ from reorder.separators import vertex_separator
 from conftest import grid2d, grid3d, m_matrix, superlu_nnz_l
 
 dissect_module = importlib.import_module("reorder.orderings.nd.dissect")
+subtree_module = importlib.import_module("reorder.orderings.nd.subtree")
 
 
 def _random_geometric(n, radius, seed):
@@ -105,6 +106,7 @@ def test_threads_give_the_same_permutation(monkeypatch):
     # subproblems become tasks of their own from 300 vertices: many tasks on a small graph
     monkeypatch.setattr(dissect_module, "SPAWN_MIN", 300)
     monkeypatch.setattr(dissect_module, "SPAWN_PARTS", 10**6)
+    monkeypatch.setattr(subtree_module, "PARTS_MIN", 200)  # the subtree choice in threads too
     for A, efforts in ((grid2d(50), ("fast", "normal")), (grid3d(11), ("fast",))):
         G = from_matrix(A)
         for effort in efforts:
@@ -112,6 +114,7 @@ def test_threads_give_the_same_permutation(monkeypatch):
             two = order(G, "nd", effort=effort, threads=2, seed=3)
             assert np.array_equal(one.perm, two.perm)
             assert one.info["separator_tree"] == two.info["separator_tree"]
+            assert one.info["subtrees_tried"] == two.info["subtrees_tried"] > 0
     assert SeparatorTree.from_json(two.info["separator_tree"]).validate(two.perm, G)
 
 

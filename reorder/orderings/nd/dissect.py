@@ -252,7 +252,8 @@ def _split(graph: Graph, s, r: Resolved, seed: int, threads: int = 1):
 def dissect(graph: Graph, s, r: Resolved, *, seed: int):
     """One nested-dissection run with settings ``s`` resolved to ``r``: ``(perm, info)`` as
     :func:`reorder.orderings.nd.nested_dissection` returns them."""
-    perm, leaf_key, nodes, n_sep_vertices = _split(graph, s, r, seed, ordering_threads(s.threads))
+    threads = ordering_threads(s.threads)
+    perm, leaf_key, nodes, n_sep_vertices = _split(graph, s, r, seed, threads)
     leaf_mask = leaf_key >= 0
     ordered, used = order_blocks(graph, leaf_key, leaf_mask, method=s.leaf_order, seed=seed)
     if ordered.size:
@@ -265,7 +266,7 @@ def dissect(graph: Graph, s, r: Resolved, *, seed: int):
         nodes, hstats = subtree_choice(graph, perm, nodes, hybrid_max=r.hybrid_max, scores=r.hybrid_scores,
                                        wide=r.hybrid_wide, wide_scores=tuple(s.hybrid_wide_scores),
                                        key=s.hybrid_key, seed=seed, multisection=r.multisection,
-                                       climb=r.hybrid_climb, gate=s.hybrid_gate)
+                                       climb=r.hybrid_climb, gate=s.hybrid_gate, threads=threads)
     tree = {"format": FORMAT, "version": VERSION, "n": int(graph.n), "root": 0,
             "leaf_size": r.leaf_size, "balance": float(s.balance), "nodes": nodes}
     info = {"separator_tree": tree, "top_separator": int(top), "separator_vertices": n_sep_vertices,

@@ -4,6 +4,8 @@ the least exact symbolic count (Ashcraft & Liu 1998)."""
 
 from __future__ import annotations
 
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 
 from ...analysis import factor_column_counts
@@ -23,7 +25,7 @@ EXACT_MAX_FILL = 100
 def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_max: int, scores, key: str,
                     seed: int, wide: int | None = None, wide_scores=("degree",),
                     multisection: bool = True, climb: int = 0,
-                    gate: float | None = None) -> tuple[list[dict], dict]:
+                    gate: float | None = None, threads: int = 1) -> tuple[list[dict], dict]:
     """Bottom-up choice between the nested-dissection order of each small subtree, minimum degree,
     and multisection.
 
@@ -45,8 +47,9 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     multisector is removed), and the multisector as its separator (node key ``"multisector"``).
     Nodes of more than ``wide`` vertices try only ``wide_scores`` (time: each rule costs one
     minimum degree and one symbolic count per level of the tree). With ``gate``, a candidate whose
-    first rule costs more than ``1 + gate`` times the best so far tries no further rules. Returns
-    the rebuilt node list and counters.
+    first rule costs more than ``1 + gate`` times the best so far tries no further rules. With
+    ``threads`` > 1, disjoint subtrees are chosen in worker threads (same result). Returns the
+    rebuilt node list and counters.
 
     References
     ----------
@@ -59,25 +62,91 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     if not nodes:
         return nodes, stats
     wide = graph.n if wide is None else int(wide)
-    n = graph.n
-    mark = np.zeros(n, dtype=np.int8)
-    local = np.full(n, -1, dtype=np.int64)
-    changed = False
     power = 2 if key == "ops" else 1
     # The columns of a node's range depend only on the order inside it: its cost is the cost of its
     # own separator columns (fixed by the order of the separator alone) plus its children's, so one
     # global count serves for the whole bottom-up pass.
     cc = factor_column_counts(graph, perm).astype(np.float64)
-    pre_c = np.concatenate(([0.0], np.cumsum(cc ** power)))
-    pre_z = np.concatenate(([0.0], np.cumsum(cc)))
-    cost_c = np.zeros(len(nodes))
-    cost_z = np.zeros(len(nodes))
-    # leaf ranges (start, stop) of each node's subtree in position order; a node won by minimum
-    # degree has one, a multisected node the compacted ranges of its leaves
-    leaves: list[list[tuple[int, int]] | None] = [None] * len(nodes)
-    ms_node = np.zeros(len(nodes), dtype=bool)
-    md_won = np.zeros(len(nodes), dtype=bool)  # separator nodes replaced by minimum degree
-    for nid in range(len(nodes) - 1, -1, -1):
+    st = _State(graph=graph, perm=perm, nodes=nodes, hybrid_max=hybrid_max, scores=scores, seed=seed, wide=wide,
+                wide_scores=wide_scores, multisection=multisection, climb=climb, gate=gate, power=power,
+                pre_c=np.concatenate(([0.0], np.cumsum(cc ** power))), pre_z=np.concatenate(([0.0], np.cumsum(cc))))
+    # disjoint subtrees (consecutive id ranges in preorder) in worker threads, then the nodes above
+    # them; a node's choice reads and writes only its own subtree, so the result is the same
+    parts, rest = _parts(nodes, max(1, int(threads)))
+    results = []
+    if len(parts) > 1:
+        with ThreadPoolExecutor(max_workers=int(threads), thread_name_prefix="reorder-subtree") as pool:
+            results = list(pool.map(lambda r: _pass(st, range(r[1] - 1, r[0] - 1, -1)), parts))
+    else:
+        rest = list(range(len(nodes)))
+    results.append(_pass(st, sorted(rest, reverse=True)))
+    changed = False
+    for ch, counts in results:
+        changed |= ch
+        for k, v in counts.items():
+            stats[k] += v
+    leaves, ms_node = st.leaves, st.ms_node
+    if not changed:
+        return nodes, stats
+    return _rebuild_tree(nodes, leaves, ms_node), stats
+
+
+class _State:
+    """What every node of the subtree choice reads and writes (each node only its own entries and
+    its children's, and ``perm`` on its own range)."""
+
+    def __init__(self, **kw):
+        self.__dict__.update(kw)
+        k = len(self.nodes)
+        self.cost_c = np.zeros(k)
+        self.cost_z = np.zeros(k)
+        # leaf ranges (start, stop) of each node's subtree in position order; a node won by minimum
+        # degree has one, a multisected node the compacted ranges of its leaves
+        self.leaves: list = [None] * k
+        self.ms_node = np.zeros(k, dtype=bool)
+        self.md_won = np.zeros(k, dtype=bool)  # separator nodes replaced by minimum degree
+
+
+#: the subtree choice splits subtrees of at least this many vertices among the worker threads
+PARTS_MIN = 20_000
+
+
+def _parts(nodes: list[dict], threads: int, parts_per_thread: int = 4):
+    """Disjoint subtrees for the worker threads: ``(parts, rest)``, ``parts`` as half-open node-id
+    ranges (a subtree is consecutive in preorder), ``rest`` the ids of the nodes above them. The
+    largest part (in vertices) is split into its children while there are fewer than
+    ``parts_per_thread · threads`` parts and it holds at least :data:`PARTS_MIN` vertices."""
+    if threads <= 1 or not nodes:
+        return [], []
+    end = list(range(1, len(nodes) + 1))
+    for i in range(len(nodes) - 1, -1, -1):
+        for c in nodes[i]["children"]:
+            end[i] = max(end[i], end[c])
+    size = lambda i: nodes[i]["stop"] - nodes[i]["start"]  # noqa: E731
+    parts, rest = [0], []
+    while len(parts) < parts_per_thread * threads:
+        j = max(range(len(parts)), key=lambda q: size(parts[q]))
+        i = parts[j]
+        if size(i) < PARTS_MIN or not nodes[i]["children"]:
+            break
+        parts[j:j + 1] = nodes[i]["children"]
+        rest.append(i)
+    if len(parts) < 2:
+        return [], []
+    return [(i, end[i]) for i in parts], rest
+
+
+def _pass(st: _State, ids) -> tuple[bool, dict]:
+    """The bottom-up choice over the node ids ``ids`` (children before parents): ``(changed,
+    counters)``."""
+    graph, perm, nodes = st.graph, st.perm, st.nodes
+    cost_c, cost_z, leaves, md_won, ms_node = st.cost_c, st.cost_z, st.leaves, st.md_won, st.ms_node
+    pre_c, pre_z, scores = st.pre_c, st.pre_z, st.scores
+    stats = {"subtrees_tried": 0, "subtrees_to_mindegree": 0, "subtrees_multisected": 0, "leaves_rescored": 0}
+    mark = np.zeros(graph.n, dtype=np.int8)
+    local = np.full(graph.n, -1, dtype=np.int64)
+    changed = False
+    for nid in ids:
         nd = nodes[nid]
         s, t = nd["start"], nd["stop"]
         m = t - s
@@ -85,7 +154,7 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
         cost_c[nid] = pre_c[t] - pre_c[own] + sum(cost_c[c] for c in nd["children"])
         cost_z[nid] = pre_z[t] - pre_z[own] + sum(cost_z[c] for c in nd["children"])
         leaves[nid] = [(s, t)] if nd["kind"] == "leaf" else [r for c in nd["children"] for r in leaves[c]]
-        if m < 3 or (m > hybrid_max and not (m <= climb and any(md_won[c] for c in nd["children"]))):
+        if m < 3 or (m > st.hybrid_max and not (m <= st.climb and any(md_won[c] for c in nd["children"]))):
             continue
         if nd["kind"] == "leaf" and len(scores) <= 1:
             continue  # the global leaf pass already used this rule
@@ -94,8 +163,8 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
         # "degree" by over a quarter on 9-point grids: gating it there cost 3% of fill)
         best, nnz_best, best_loc, best_kind, W = _compete(
             graph, perm[s:t], nd, leaves[nid], float(cost_c[nid]), float(cost_z[nid]),
-            rules=scores if m <= wide else wide_scores, gate=gate if m <= wide else None,
-            multisection=multisection, power=power, seed=seed, mark=mark, local=local)
+            rules=scores if m <= st.wide else st.wide_scores, gate=st.gate if m <= st.wide else None,
+            multisection=st.multisection, power=st.power, seed=st.seed, mark=mark, local=local)
         if best_loc is None:
             continue
         cost_c[nid], cost_z[nid] = best, nnz_best
@@ -116,9 +185,7 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
             leaves[nid] = [(int(edges[i]), int(edges[i + 1])) for i in range(len(sizes))]
             nd.update(separator=int(m - edges[-1] + s))
             ms_node[nid] = True
-    if not changed:
-        return nodes, stats
-    return _rebuild_tree(nodes, leaves, ms_node), stats
+    return changed, stats
 
 
 def _compete(graph: Graph, verts: np.ndarray, nd: dict, node_leaves, best: float, nnz_best: float, *, rules,
