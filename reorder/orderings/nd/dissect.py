@@ -146,7 +146,7 @@ def _task(run: _Run, verts: np.ndarray, start: int, key: int, connected: bool):
                     pos += g.size
                 stack.extend(reversed(tasks))
                 continue
-        part = _best_separator(ip, ix, s, r, seed=run.seed, node=key, top=m >= s.top_fraction * n)
+        part = _best_separator(ip, ix, s, r, seed=run.seed, node=key, top=m >= r.top_fraction * n)
         A, B, S = verts[part == 0], verts[part == 1], verts[part == 2]
         if A.size == 0 or B.size == 0 or S.size == 0:  # no useful separator (e.g. a clique)
             new_node(parent, start, start + m, "leaf")
@@ -170,7 +170,7 @@ def _compiled_subtree(run: _Run, nodes: list, verts, start: int, key: int, conne
     kind, par, st, sp, sep, sptr, sizes, nsep = _ks.dissect_small(
         run.graph.indptr, run.graph.indices, verts, int(start), int(key), bool(connected), run.scratch(), run.perm,
         run.leaf_key, int(r.leaf_size), run.bases, int(r.trials), int(r.trials_min), int(r.top_trials),
-        float(s.top_fraction * run.n), int(r.keep[0]), int(r.keep[1]), float(s.balance), int(s.coarse_size),
+        float(r.top_fraction * run.n), int(r.keep[0]), int(r.keep[1]), float(s.balance), int(s.coarse_size),
         bool(s.ratio_key))
     off = len(nodes)
     names = ("leaf", "separator", "components")
