@@ -60,7 +60,7 @@ def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool) 
         sep = vertex_separator(ip, ix, seed=trial_seed(seed, t, node), balance=s.balance,
                                multilevel=s.multilevel, refine=s.refine, mode=s.split, coarse_size=s.coarse_size,
                                eigenvectors=r.eigenvectors[top], spectral_min=r.spectral_min,
-                               keep=r.keep[top], smooth=r.smooth[top])
+                               keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0)
         a, b, c = sep.sizes
         ok = c > 0 and a > 0 and b > 0
         key = (ok, -c * (a + b) ** 2 / max(4.0 * a * b, 1.0), -abs(a - b)) if s.ratio_key else (ok, -c, -abs(a - b))
@@ -265,6 +265,7 @@ def dissect(graph: Graph, s, r: Resolved, *, seed: int):
     if r.hybrid_max > 0:
         nodes, hstats = subtree_choice(graph, perm, nodes, hybrid_max=r.hybrid_max, scores=r.hybrid_scores,
                                        wide=r.hybrid_wide, wide_scores=tuple(s.hybrid_wide_scores),
+                                       single=r.hybrid_single,
                                        key=s.hybrid_key, seed=seed, multisection=r.multisection,
                                        climb=r.hybrid_climb, gate=s.hybrid_gate, threads=threads)
     tree = {"format": FORMAT, "version": VERSION, "n": int(graph.n), "root": 0,

@@ -100,6 +100,8 @@ class Resolved:
     restarts: int
     trials_min: int = 0
     top_fraction: float = 0.1
+    smooth_min: int = 0
+    hybrid_single: int | None = None
 
 
 def ramp(n: int) -> dict | None:
@@ -109,14 +111,18 @@ def ramp(n: int) -> dict | None:
 
     Sizes and limits go geometrically (leaf size 50 → 400, ``spectral_min`` 500 → 2000, the subtree
     choice's reach ``hybrid_max`` n → 2000 and ``hybrid_climb``, the all-rules reach
-    ``hybrid_wide``); the second trial is kept on the subproblems above ``trials_min``, which goes
-    from the leaf size to n; the top subproblems (which get the top settings) are those above
-    ``top_fraction`` of the graph, 0.1 → 0.5; top trials 6 → 1, carried candidates 3 → 1 and
-    smoothing steps 4 → 0 go down one at a time at different sizes, and the third top eigenvector
-    stops at f = 0.8 (at f = 1/2 it fell with a top trial: 1.54× in CPU time per n·log₂n between
-    488² and 546² grids, measured). So the
-    effort falls by many small steps instead of one (a jump of 8× in time per n·log₂n between 312²
-    and 349² grids, measured before).
+    ``hybrid_wide``, and the reach of the wide nodes' second pivot rule, ``hybrid_single`` n → 50);
+    the second trial is kept on the subproblems above ``trials_min`` and the
+    smoothed eigenvectors on those above ``smooth_min`` (both rising to n: smoothing costs about
+    the same with one step as with four, so fewer steps would not make it cheaper); the top
+    subproblems (which get the top settings) are those above ``top_fraction`` of the graph, 0.1 →
+    0.5. The discrete settings change at sizes apart from each other: top trials 6 → 1 (at f ≈
+    0.05, 0.16, 0.30, 0.51, 0.77), carried candidates 3 → 2 → 1 (f = 0.24, 0.40), the third top
+    eigenvector stops at f = 0.63. Measured before (one thread, CPU time per n·log₂n, loaded
+    machine): with the third eigenvector and a top trial both stopping at f = 1/2 a step of 1.54×
+    between 488² and 546² grids; with smoothing stopping at once at f = 7/8, 2.1× between 763² and
+    853². So the effort falls by many small steps instead of one (a jump of 8× between 312² and
+    349² grids with the table alone).
     """
     if not LARGE < n < RAMP_END:
         return None
@@ -130,10 +136,11 @@ def ramp(n: int) -> dict | None:
         return int(round(x + (y - x) * f))
 
     leaf = geo(a["leaf_size"], b["leaf_size"])
-    return dict(a, top_trials=geo(a["top_trials"], b["top_trials"]), keep=lin(a["keep"], b["keep"]),
-                top_keep=lin(a["top_keep"], b["top_keep"]), smooth=lin(a["smooth"], b["smooth"]),
-                top_smooth=lin(a["top_smooth"], b["top_smooth"]), spectral_min=geo(a["spectral_min"], b["spectral_min"]),
-                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < 0.8 else b["top_eigenvectors"],
+    keep = 3 if f < 0.24 else 2 if f < 0.40 else 1
+    spectral_min = geo(a["spectral_min"], b["spectral_min"])
+    return dict(a, top_trials=geo(a["top_trials"], b["top_trials"]), keep=keep, top_keep=keep,
+                spectral_min=spectral_min, smooth_min=geo(spectral_min, n), hybrid_single=geo(n, a["leaf_size"]),
+                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < 0.63 else b["top_eigenvectors"],
                 hybrid_max=geo(n, b["hybrid_max"]), hybrid_wide=geo(a["hybrid_wide"], a["leaf_size"]),
                 hybrid_climb=geo(CLIMB, b["hybrid_max"]), trials_min=geo(leaf, n),
                 top_fraction=0.1 ** (1.0 - f) * 0.5 ** f)
@@ -166,4 +173,5 @@ def resolve(s, n: int) -> Resolved:
         hybrid_scores=tuple(pick("hybrid_scores")), hybrid_climb=int(pick("hybrid_climb")),
         multisection=bool(pick("multisection")), restarts=int(pick("restarts")),
         trials_min=max(int(s.trials_min), int(row.get("trials_min", 0))),
-        top_fraction=max(float(s.top_fraction), float(row.get("top_fraction", 0.0))))
+        top_fraction=max(float(s.top_fraction), float(row.get("top_fraction", 0.0))),
+        smooth_min=int(row.get("smooth_min", 0)), hybrid_single=row.get("hybrid_single"))

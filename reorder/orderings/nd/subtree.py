@@ -25,7 +25,8 @@ EXACT_MAX_FILL = 100
 def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_max: int, scores, key: str,
                     seed: int, wide: int | None = None, wide_scores=("degree",),
                     multisection: bool = True, climb: int = 0,
-                    gate: float | None = None, threads: int = 1) -> tuple[list[dict], dict]:
+                    gate: float | None = None, threads: int = 1,
+                    single: int | None = None) -> tuple[list[dict], dict]:
     """Bottom-up choice between the nested-dissection order of each small subtree, minimum degree,
     and multisection.
 
@@ -45,7 +46,8 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     leaf and its subtree is pruned; a node won by multisection keeps its leaves, split into two
     groups of consecutive leaves (``"components"`` nodes: no edge joins two leaves once the
     multisector is removed), and the multisector as its separator (node key ``"multisector"``).
-    Nodes of more than ``wide`` vertices try only ``wide_scores`` (time: each rule costs one
+    Nodes of more than ``wide`` vertices try only ``wide_scores``, and nodes of more than ``single``
+    (when given) only the first of them (time: each rule costs one
     minimum degree and one symbolic count per level of the tree). With ``gate``, a candidate whose
     first rule costs more than ``1 + gate`` times the best so far tries no further rules. With
     ``threads`` > 1, disjoint subtrees are chosen in worker threads (same result). Returns the
@@ -68,7 +70,8 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     # global count serves for the whole bottom-up pass.
     cc = factor_column_counts(graph, perm).astype(np.float64)
     st = _State(graph=graph, perm=perm, nodes=nodes, hybrid_max=hybrid_max, scores=scores, seed=seed, wide=wide,
-                wide_scores=wide_scores, multisection=multisection, climb=climb, gate=gate, power=power,
+                wide_scores=wide_scores, single=graph.n if single is None else int(single),
+                multisection=multisection, climb=climb, gate=gate, power=power,
                 pre_c=np.concatenate(([0.0], np.cumsum(cc ** power))), pre_z=np.concatenate(([0.0], np.cumsum(cc))))
     # disjoint subtrees (consecutive id ranges in preorder) in worker threads, then the nodes above
     # them; a node's choice reads and writes only its own subtree, so the result is the same
@@ -161,9 +164,10 @@ def _pass(st: _State, ids) -> tuple[bool, dict]:
         stats["subtrees_tried"] += 1
         # the gate skips rules only in the full list (the wide nodes' second rule, "fill", beats
         # "degree" by over a quarter on 9-point grids: gating it there cost 3% of fill)
+        rules = scores if m <= st.wide else st.wide_scores if m <= st.single else st.wide_scores[:1]
         best, nnz_best, best_loc, best_kind, W = _compete(
             graph, perm[s:t], nd, leaves[nid], float(cost_c[nid]), float(cost_z[nid]),
-            rules=scores if m <= st.wide else st.wide_scores, gate=st.gate if m <= st.wide else None,
+            rules=rules, gate=st.gate if m <= st.wide else None,
             multisection=st.multisection, power=st.power, seed=st.seed, mark=mark, local=local)
         if best_loc is None:
             continue
