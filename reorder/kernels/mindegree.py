@@ -79,6 +79,53 @@ def _fill_score(d, m, c):
 
 
 @njit(cache=True, nogil=True)
+def _minus_ones(size, like):
+    """A new array of ``size`` entries -1 of the type of ``like`` (cheaper to compile than np.full)."""
+    a = np.empty(size, dtype=like.dtype)
+    for k in range(size):
+        a[k] = -1
+    return a
+
+
+@njit(cache=True, nogil=True)
+def _heapsort(a):
+    """Sort the int64 array ``a`` in place (heap sort; O(m log m); compiles in a fraction of the
+    time numba's library sorts take)."""
+    m = a.size
+    for start in range(m // 2 - 1, -1, -1):
+        k = start
+        x = a[k]
+        while True:
+            c = 2 * k + 1
+            if c >= m:
+                break
+            if c + 1 < m and a[c + 1] > a[c]:
+                c += 1
+            if a[c] > x:
+                a[k] = a[c]
+                k = c
+            else:
+                break
+        a[k] = x
+    for end in range(m - 1, 0, -1):
+        x = a[end]
+        a[end] = a[0]
+        k = 0
+        while True:
+            c = 2 * k + 1
+            if c >= end:
+                break
+            if c + 1 < end and a[c + 1] > a[c]:
+                c += 1
+            if a[c] > x:
+                a[k] = a[c]
+                k = c
+            else:
+                break
+        a[k] = x
+
+
+@njit(cache=True, nogil=True)
 def _compact(ws, used, V):
     """Slide the live lists of ``ws`` to the front, in position order; return the new used size.
 
@@ -153,7 +200,7 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
                 if score == 4:
                     hkv = V[v, _DEG] + 0.5
                 else:
-                    hkv = _fill_score(V[v, _DEG], 0, V[v, _WT])
+                    hkv = _fill_score(float(V[v, _DEG]), 0.0, float(V[v, _WT]))
                 sq = seq
                 seq += 1
                 kk = hsize
@@ -252,7 +299,7 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
                         if useheap:
                             V[i, _DEG] = d
                             if score == 5:
-                                hkv = _fill_score(d, big, V[i, _WT])
+                                hkv = _fill_score(float(d), float(big), float(V[i, _WT]))
                             else:
                                 hkv = d + 0.5 * (1.0 - big / (d + 1.0))
                             sq = seq
@@ -719,9 +766,9 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
             elif useheap:
                 m = V[i, _CLIQ] if V[i, _CLIQ] > degme else degme
                 if score == 2:
-                    hkv = _fill_score(d, m - nvi, nvi) * nvi ** 0.5
+                    hkv = _fill_score(float(d), float(m - nvi), float(nvi)) * nvi ** 0.5
                 else:
-                    hkv = _fill_score(d, m - nvi, nvi)
+                    hkv = _fill_score(float(d), float(m - nvi), float(nvi))
                 sq = seq
                 seq += 1
                 # new key in place: sift the entry up or down from its slot
@@ -876,13 +923,17 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     # equal keys only select the pairs whose lists are compared entry by entry, so a truncation
     # changes no merge), hash-bucket link, 'degree awaits the end of the stage' (exact rules).
     # With 16 fields a vertex fills one cache line.
-    V = np.zeros((n, _NFIELD), dtype=itype)
+    V = np.empty((n, _NFIELD), dtype=itype)
     for v in range(n):
+        for f in range(_NFIELD):
+            V[v, f] = 0
         V[v, _STATE] = _DEAD
         V[v, _BNEXT] = -1
         V[v, _BPREV] = -1
         V[v, _HNEXT] = -1
-    flag = np.zeros(n, dtype=np.int64)
+    flag = np.empty(n, dtype=np.int64)
+    for v in range(n):
+        flag[v] = 0
     # hash buckets, key & (size - 1): every bucket filled in a step is emptied in the same step,
     # so the table only needs to spread the variables of one new element; a table that stays in
     # cache (at most 2^15 buckets) spares a cache miss per variable. (Any bucket function gives the
@@ -890,25 +941,27 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     mask = 1
     while mask < n and mask < 32768:
         mask *= 2
-    hhead = np.full(mask, -1, dtype=itype)
+    hhead = _minus_ones(mask, ws)
     mask -= 1
-    mnext = np.full(n, -1, dtype=itype)  # member lists of supervariables / pivots
+    mnext = _minus_ones(n, ws)  # member lists of supervariables / pivots
     mlast = np.empty(n, dtype=itype)
     for v in range(n):
         mlast[v] = v
-    xfirst = np.full(n, -1, dtype=itype)  # mass-eliminated members of a pivot
-    xlast = np.full(n, -1, dtype=itype)
-    bhead = np.full(n + 1, -1, dtype=itype)
-    btail = np.full(n + 1, -1, dtype=itype)
+    xfirst = _minus_ones(n, ws)  # mass-eliminated members of a pivot
+    xlast = _minus_ones(n, ws)
+    bhead = _minus_ones(n + 1, ws)
+    btail = _minus_ones(n + 1, ws)
     pivots = np.empty(n, dtype=itype)
     useheap = score == 1 or score == 2 or score >= 4
     nh = n if useheap else 1  # the heap's arrays are not touched under the bucket rules
     heap = np.empty(nh, dtype=itype)
-    hpos = np.full(nh, -1, dtype=itype)
-    hval = np.zeros(nh, dtype=np.float64)  # key of the entry in heap slot k (kept with the slot,
-    hseq = np.zeros(nh, dtype=np.int64)  # not the vertex: comparisons read neighbouring slots)
+    hpos = _minus_ones(nh, ws)
+    hval = np.empty(nh, dtype=np.float64)  # key of the entry in heap slot k (kept with the slot,
+    hseq = np.empty(nh, dtype=np.int64)  # not the vertex: comparisons read neighbouring slots)
     plist = np.empty(n if score >= 3 else 1, dtype=itype)
-    counters = np.zeros(7, dtype=np.int64)
+    counters = np.empty(7, dtype=np.int64)
+    for k in range(7):
+        counters[k] = 0
 
     used = 0
     nleft = 0  # weight of variables not yet eliminated (halo included)
@@ -937,7 +990,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         cmask = 1
         while cmask < n:
             cmask *= 2
-        chead = np.full(cmask, -1, dtype=itype)
+        chead = _minus_ones(cmask, ws)
         cmask -= 1
         for v in range(n):
             if role[v] != 1:
@@ -994,8 +1047,11 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             if V[v, _STATE] == _VAR:
                 V[v, _DEG] = V[v, _LEN] - (V[v, _WT] - 1)
 
-    st = np.zeros(_NSTATE, dtype=np.int64)
-    stf = np.zeros(1, dtype=np.float64)
+    st = np.empty(_NSTATE, dtype=np.int64)
+    for k in range(_NSTATE):
+        st[k] = 0
+    stf = np.empty(1, dtype=np.float64)
+    stf[0] = 0.0
     st[_S_TOCK] = tock
     st[_S_USED] = used
     st[_S_NLEFT] = nleft
@@ -1013,7 +1069,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             size = INT32_LIMIT
         grown = np.empty(size, dtype=itype)
         used = st[_S_USED]
-        grown[:used] = ws[:used]
+        for p in range(used):  # (a loop: a slice copy compiles numba's shape-error path, seconds)
+            grown[p] = ws[p]
         ws = grown
         wslen = size
 
@@ -1049,13 +1106,15 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                         b -= 1
                     out[b + 1] = x
             else:
+                # stable sort by degree: distinct keys degree * m + position, heap-sorted
+                m = k - k0
                 seg = out[k0:k].copy()
-                dseg = np.empty(k - k0, dtype=np.int64)
-                for a in range(k - k0):
-                    dseg[a] = indptr[seg[a] + 1] - indptr[seg[a]]
-                idx = np.argsort(dseg, kind="mergesort")
-                for a in range(k - k0):
-                    out[k0 + a] = seg[idx[a]]
+                keys = np.empty(m, dtype=np.int64)
+                for a in range(m):
+                    keys[a] = (indptr[seg[a] + 1] - indptr[seg[a]]) * m + a
+                _heapsort(keys)
+                for a in range(m):
+                    out[k0 + a] = seg[keys[a] % m]
     counters[0] = npiv
     counters[5] = wslen
     return out, counters, group
