@@ -251,3 +251,31 @@ def test_progress_and_table_printed(suite, tmp_path):
     assert "[1/4] grid natural" in text  # one line per case when not on a terminal
     assert "★" in text and "report.html" in text
     assert str(res).endswith("report.html")
+
+
+def test_one_case_at_a_time_per_process(monkeypatch):
+    # a threaded Dask worker runs tasks in threads of one process: their cases must not overlap
+    # (timings would share the interpreter lock, and CPython 3.11 raised SystemError once when two
+    # threads parsed source at once). Reference: the threads' own enter/leave records.
+    import threading
+    import time
+
+    from reorder.compare import work
+
+    spans = []
+
+    def slow(case):
+        t0 = time.perf_counter()
+        time.sleep(0.05)
+        spans.append((t0, time.perf_counter()))
+        return {}
+
+    monkeypatch.setattr(work, "_run_case", slow)
+    threads = [threading.Thread(target=work.run_case, args=(None,)) for _ in range(4)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    spans.sort()
+    assert len(spans) == 4
+    assert all(a[1] <= b[0] for a, b in zip(spans, spans[1:]))
