@@ -1,4 +1,4 @@
-"""The indexed binary heap shared by the kernels (minimum degree's degree heap, Sloan's queue).
+"""The indexed binary heap of Sloan's queue (minimum degree writes its heap inline, see there).
 
 Plain arrays: ``heap[:size]`` holds the entries, ``pos[v]`` the slot of entry ``v`` (-1 when absent),
 and ``key[v]``, ``tie[v]`` its priority: ``v`` leaves before ``u`` if ``key[v] < key[u]``, or if the
@@ -58,30 +58,3 @@ def heap_down(k, size, heap, pos, key, tie):
             break
     heap[k] = v
     pos[v] = k
-
-
-@njit(cache=True)
-def heap_remove(v, size, heap, pos, key, tie):
-    """Remove entry ``v`` from the heap of ``size`` entries; return the new size."""
-    k = pos[v]
-    pos[v] = -1
-    size -= 1
-    if k == size:
-        return size
-    last = heap[size]
-    heap[k] = last
-    pos[last] = k
-    if k > 0 and before(last, heap[(k - 1) >> 1], key, tie):
-        heap_up(k, heap, pos, key, tie)
-    else:
-        heap_down(k, size, heap, pos, key, tie)
-    return size
-
-
-@njit(cache=True)
-def heap_push(v, size, heap, pos, key, tie):
-    """Add entry ``v`` to the heap of ``size`` entries; return the new size."""
-    heap[size] = v
-    pos[v] = size
-    heap_up(size, heap, pos, key, tie)
-    return size + 1

@@ -41,8 +41,6 @@ from __future__ import annotations
 import numpy as np
 from numba import njit
 
-from .heap import before, heap_down, heap_push, heap_remove, heap_up  # noqa: F401  (shared heap)
-
 # vertex states
 _VAR = 0  # principal variable (uneliminated supervariable representative)
 _ELEM = 1  # live element (eliminated pivot whose clique is still needed)

@@ -365,6 +365,7 @@ def dissect_small(indptr, indices, verts, start, key, connected, local, perm, le
             ntr = max(ntr, top_trials)
         best = np.empty(0, dtype=np.int8)
         bok, br, bimb = 0, 0.0, 0
+        na, nb, nc = 0, 0, 0  # side and separator sizes of the best trial
         for t in range(ntr):
             seed = (bases[t] + 7919 * k) % _MOD
             part = cheap_separator(ip, ix, seed, balance, coarse_size, top_keep if top else keep, 4, 8)
@@ -387,16 +388,7 @@ def dissect_small(indptr, indices, verts, start, key, connected, local, perm, le
             if t == 0 or _better(ok, r, imb, bok, br, bimb):
                 best = part
                 bok, br, bimb = ok, r, imb
-        na = 0
-        nb = 0
-        nc = 0
-        for i in range(m):
-            if best[i] == 0:
-                na += 1
-            elif best[i] == 1:
-                nb += 1
-            else:
-                nc += 1
+                na, nb, nc = a, b, c
         if na == 0 or nb == 0 or nc == 0:  # no useful separator (e.g. a clique)
             for i in range(m):
                 leaf_key[v[i]] = st0
