@@ -66,3 +66,19 @@ def test_dissection_expected_to_save_less_on_2d_than_on_3d():
     assert saving_fraction(rung, 10.0) == rung.saving
     plain = next(r for r in LADDER if not r.dense)
     assert saving_fraction(plain, 0.0) == plain.saving
+
+
+def test_largest_expected_net_gain_runs_first():
+    # on a 3-D grid the expected saving of nested dissection (a share of the factorization time,
+    # large where the factor is dense: George 1973's ops ~ n^2 growth) dwarfs that of another pivot
+    # rule of minimum degree, so with many factorizations the search takes nd-fast right after
+    # the start, although it costs more; the order of runs is recorded
+    g = from_matrix(grid3d(12))
+    _, info = escalate(g, rates=DEFAULT_RATES, factorizations=1e4)
+    assert info["ran"][0] == START.label
+    assert info["ran"][1] == "nd-fast"
+    assert set(info["ran"]) == {k for k, v in info["candidates"].items() if "nnz_factor" in v}
+    # a rung that builds on another never runs before it
+    for later, earlier in (("nd", "nd-fast"), ("nd-best", "nd")):
+        if later in info["ran"]:
+            assert info["ran"].index(earlier) < info["ran"].index(later)

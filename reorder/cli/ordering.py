@@ -44,9 +44,10 @@ def order_cmd(
 
     The default method, auto, spends ordering time only where it pays: it starts from minimum
     degree under one pivot rule and tries costlier orderings (another rule, RCM, nd-fast, every
-    rule, SciPy's minimum degree, nd, three nd restarts) only while the predicted saving in
-    factorization time, times --factorizations, exceeds the predicted extra ordering time. --json
-    shows which candidates ran, what each cost and why the search stopped.
+    rule, SciPy's minimum degree, nd, three nd restarts), the one of largest expected net gain
+    first, only while the predicted saving in factorization time, times --factorizations, exceeds
+    the predicted extra ordering time. --json shows which candidates ran (in order), what each cost
+    and why the search stopped.
     """
     from ..analysis import symbolic_factor
     from ..io import read_permutation, write_permutation

@@ -1,11 +1,11 @@
-"""``auto``: the ordering that pays for itself, searched cheapest first.
+"""``auto``: the ordering that pays for itself.
 
 By default (no ``candidates``) ``auto`` runs the cost-aware search of
 :mod:`reorder.orderings.escalation`: minimum degree under one pivot rule first, then costlier
-candidates (RCM, nested dissection with cheap settings, every pivot rule of minimum degree, SciPy
-SuperLU's minimum degree, nested dissection with full polish, three restarts) only while the
-predicted saving in factorization time, counted ``factorizations`` times, exceeds the predicted
-extra ordering time. With ``candidates`` it runs exactly those methods and keeps the least nnz(L).
+candidates (another pivot rule, RCM, nested dissection with cheap settings, every pivot rule of
+minimum degree, SciPy SuperLU's minimum degree, nested dissection with full polish, three restarts),
+the one of largest expected net gain first, only while the predicted saving in factorization time,
+counted ``factorizations`` times, exceeds the predicted extra ordering time. With ``candidates`` it runs exactly those methods and keeps the least nnz(L).
 """
 
 from __future__ import annotations
@@ -24,8 +24,9 @@ __all__ = ["auto", "AutoSettings", "POLICY"]
 
 #: the policy in one sentence (shown by the command line's help)
 POLICY = ("auto starts from minimum degree under one pivot rule and tries costlier orderings (another rule, RCM, "
-          "nd-fast, every rule, SciPy's minimum degree, nd, three nd restarts) only while the predicted saving "
-          "in factorization time, times --factorizations, exceeds the predicted extra ordering time")
+          "nd-fast, every rule, SciPy's minimum degree, nd, three nd restarts), the one of largest expected net "
+          "gain first, only while the predicted saving in factorization time, times --factorizations, exceeds "
+          "the predicted extra ordering time")
 
 
 def _exhaustive(graph: Graph, s: AutoSettings, seed: int):

@@ -2,14 +2,18 @@
 
 What a user pays is the ordering time plus ``factorizations`` times the factorization time.
 :func:`escalate` starts from the cheapest good candidate (minimum degree under one pivot rule), prices
-its factorization with :func:`reorder.cost.predict_seconds`, and then walks a ladder of costlier
+its factorization with :func:`reorder.cost.predict_seconds`, and then considers a ladder of costlier
 candidates. Each rung has a predicted ordering time (a multiple of the measured time of the cheap
-start, which gauges this machine and this graph) and an expected saving (a fraction, measured on the
-bundled meshes and grids, of the best predicted factorization time so far, times the number of
-factorizations). A rung runs only when its expected saving exceeds its predicted cost (the
-search escalates while that holds; a rung that builds on another runs only after it). The order kept is the one of least predicted total
-factorization time (ties: fewer entries of L, then the earlier candidate), so escalating never
-makes the result worse than the cheap start by the model's measure.
+start or of the rung it builds on, which gauge this machine and this graph, or a size model) and an
+expected saving (a fraction, measured on the bundled meshes and grids, of the best predicted
+factorization time so far, times the number of factorizations). At each step the rung of largest
+expected net gain (saving minus cost) runs, as long as that gain is positive; a rung that builds on
+another runs only after it. Picking by net gain rather than by cost keeps cheap rungs of small
+expected gain from running before a costlier one that makes them pointless (on a 3-D grid
+nested dissection first, after which another pivot rule of minimum degree no longer pays). The
+order kept is the one of least predicted factorization time (ties: fewer entries of L, then the
+earlier candidate), so escalating never makes the result worse than the cheap start by the model's
+measure.
 """
 
 from __future__ import annotations
@@ -40,8 +44,9 @@ class Rung:
     options : tuple of (str, value)
         Settings passed to the method.
     cost : float
-        Predicted ordering seconds: a multiple of the measured seconds of the cheap start, or with
-        ``per_size`` a multiple of the size model of nested dissection (:func:`nd_seconds`).
+        Predicted ordering seconds: a multiple of the measured seconds of the cheap start (or of the
+        rung ``after``, when given), or with ``per_size`` a multiple of the size model of nested
+        dissection (:func:`nd_seconds`).
     saving : float
         Expected fraction of the best predicted factorization time so far that this candidate saves.
     max_n : int
@@ -49,7 +54,8 @@ class Rung:
     per_size : bool
         Cost from the size model :func:`nd_seconds` instead of the cheap start's time.
     after : str
-        Label of a rung that must have run first (its saving is counted from that rung's result).
+        Label of a rung that must have run first; ``cost`` is then a multiple of its measured seconds
+        (the ordering time of a related method on this very graph predicts better than a size model).
     dense : bool
         The saving is ``saving`` only where the factor has much dense work (3-D meshes); it shrinks
         towards :data:`SPARSE_SHARE` of it where the factor is thin (2-D meshes), see
@@ -73,12 +79,13 @@ class Rung:
 #: plain degree rule reached 1.25x (an elasticity mesh) for about 25% less time (measured)
 START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", True)))
 
-#: the ladder, cheapest first. Costs: the mean-fill pivot rule (with initial supervariables), RCM
+#: the ladder (ties of expected net gain go to the earlier rung). Costs: the mean-fill pivot rule (with initial supervariables), RCM
 #: and every pivot rule of minimum degree as multiples of the cheap start's time (measured about
 #: 1.1x, 0.2-0.5x and 8-15x; the mean-fill rule left 0.6% more nnz(L) than the start in geometric
-#: mean over the suite but 8.5% less on the 24³ grid and 7% less on an elasticity mesh); nested dissection by the size model
-#: :func:`nd_seconds` (full polish 5-7x ``fast`` up to 10⁵ vertices, 1.5x above; three restarts 3x
-#: that). Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
+#: mean over the suite but 8.5% less on the 24³ grid and 7% less on an elasticity mesh); ``nd-fast``
+#: by the size model :func:`nd_seconds`; full polish as a multiple of the measured ``nd-fast`` seconds
+#: (6.2x on the 27-point 22³ grid, 7.7x on the 7-point 40³ grid; about 1.5x above 10⁵ vertices,
+#: where ``normal`` uses cheaper settings), three restarts 3x the measured polish. Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
 #: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
 #: 0.45, on 3-D meshes; scaled down on thin factors by :func:`saving_fraction`; nd over nd-fast
 #: about 0.1; three restarts about 0.01).
@@ -88,8 +95,8 @@ LADDER = (
     Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True, dense=True),
     Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
     Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
-    Rung("nd", "nd", (("effort", "normal"),), cost=6.0, saving=0.10, per_size=True, after="nd-fast"),
-    Rung("nd-best", "nd", (("effort", "best"),), cost=20.0, saving=0.01, per_size=True, after="nd"),
+    Rung("nd", "nd", (("effort", "normal"),), cost=7.0, saving=0.10, after="nd-fast"),
+    Rung("nd-best", "nd", (("effort", "best"),), cost=3.0, saving=0.01, after="nd"),
 )
 
 #: where the dense-work index of the cheap start's factor (:func:`dense_index`) is at most
@@ -137,6 +144,16 @@ def nd_seconds(graph: Graph, rates) -> float:
     return ND_FAST_PER_NLOGN * n * np.log2(n) * (1.0 + graph.indices.size / (50.0 * n)) * speed
 
 
+def _polish_share(n: int) -> float:
+    """How much of the polish multiple of ``nd`` over ``nd-fast`` is left at ``n`` vertices: 1 up to
+    the presets' ``LARGE``, falling geometrically to 1/6 at ``RAMP_END``, where both use the same
+    settings (measured on the 10⁶-row grid: 11.2 s against 11.3 s)."""
+    from .nd.presets import LARGE, RAMP_END
+
+    f = min(max(np.log(max(n, 1) / LARGE) / np.log(RAMP_END / LARGE), 0.0), 1.0)
+    return float(6.0 ** -f)
+
+
 def _run(graph: Graph, rung: Rung, seed: int, extra: dict):
     from . import order
 
@@ -163,7 +180,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     rates : reorder.cost.Rates, optional
         Default :func:`reorder.cost.machine_rates`.
     ladder : sequence of Rung
-        Candidates after the cheap start, cheapest first.
+        Candidates after the cheap start (in the order ties of net gain are broken).
     nd_options : dict, optional
         Extra settings for the nested-dissection rungs (``multisection``); None values ignored.
     time_scale : float
@@ -173,9 +190,10 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     -------
     perm : ndarray of int64
     info : dict
-        ``chosen``; ``candidates``: per label either ``{"nnz_factor", "factor_ops", "seconds",
-        "predicted_factor_seconds"}`` (ran), ``{"skipped": reason, "predicted_order_seconds",
-        "expected_saving_seconds"}`` (did not pay) or ``{"error": ...}``; ``stopped`` (why the
+        ``chosen``; ``ran``: the labels that ran, in the order they ran; ``candidates``: per label
+        either ``{"nnz_factor", "factor_ops", "seconds", "predicted_factor_seconds"}`` (ran),
+        ``{"skipped": reason, "predicted_order_seconds", "expected_saving_seconds"}`` (did not pay)
+        or ``{"error": ...}``; ``stopped`` (why the
         search ended); ``factorizations``; ``predicted_factor_seconds`` and ``rates`` (where the
         machine rates came from).
     """
@@ -205,39 +223,58 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     key, perm, t_start, start_counts = attempt(START)
     index = dense_index(start_counts)
     best = (key, START.label, perm)
-    ran = {START.label}
+    seconds = {START.label: t_start}
+    ran = [START.label]
     stopped = "every candidate ran"
+    pending = []
     for rung in ladder:
         if rung.max_n and n > rung.max_n:
             results[rung.label] = {"skipped": f"more than {rung.max_n} rows"}
-            continue
-        if rung.after and rung.after not in ran:
-            results[rung.label] = {"skipped": f"needs {rung.after} first"}
-            continue
-        cost = rung.cost * (nd_seconds(graph, rates) if rung.per_size else t_start) * time_scale
-        if rung.per_size and rung.options == (("effort", "normal"),) and n > 100_000:
-            cost /= 4.0  # above 10⁵ vertices "normal" uses the cheaper settings
+        else:
+            pending.append(rung)
+
+    def price(rung):
+        """(predicted ordering seconds, expected saving in seconds) of ``rung`` now."""
         if rung.method == "superlu-md":
-            cost = 1.5 * best[0][0] * time_scale  # it factors an M-matrix of the pattern once
-        saving = saving_fraction(rung, index) * best[0][0] * k
+            cost = 1.5 * best[0][0]  # it factors an M-matrix of the pattern once
+        elif rung.per_size:
+            cost = rung.cost * nd_seconds(graph, rates)
+        else:
+            cost = rung.cost * seconds[rung.after or START.label]
+            if rung.options == (("effort", "normal"),):
+                cost *= _polish_share(n)
+        return cost * time_scale, saving_fraction(rung, index) * best[0][0] * k
+
+    while pending:
+        ready = [r for r in pending if not r.after or r.after in seconds]
+        if not ready:
+            break
+        priced = [(r, *price(r)) for r in ready]
+        rung, cost, saving = max(priced, key=lambda x: x[2] - x[1])  # ties: the earlier rung
         if saving <= cost:
-            results[rung.label] = {"skipped": "expected saving below predicted ordering time",
-                                   "predicted_order_seconds": round(float(cost), 4),
-                                   "expected_saving_seconds": round(float(saving), 4)}
+            for r, c, sv in priced:
+                results[r.label] = {"skipped": "expected saving below predicted ordering time",
+                                    "predicted_order_seconds": round(float(c), 4),
+                                    "expected_saving_seconds": round(float(sv), 4)}
             stopped = (f"{rung.label} would cost about {cost:.3g} s for an expected saving of "
                        f"{saving:.3g} s over {k:g} factorization(s)")
-            continue
+            pending = [r for r in pending if r not in ready]
+            break
+        pending.remove(rung)
         try:
-            key, perm, _, _ = attempt(rung)
+            key, perm, sec, _ = attempt(rung)
         except Exception as exc:  # a failing candidate must not sink the others
             results[rung.label] = {"error": f"{type(exc).__name__}: {exc}"}
             continue
-        ran.add(rung.label)
+        seconds[rung.label] = sec
+        ran.append(rung.label)
         if key < best[0]:
             best = (key, rung.label, perm)
+    for rung in pending:
+        results[rung.label] = {"skipped": f"needs {rung.after} first"}
     for rung in ladder:
         results.setdefault(rung.label, {"skipped": "search stopped before it"})
     (pred, _), label, perm = best
-    info = {"chosen": label, "candidates": results, "stopped": stopped, "factorizations": k,
+    info = {"chosen": label, "candidates": results, "ran": ran, "stopped": stopped, "factorizations": k,
             "predicted_factor_seconds": pred, "rates": rates.source, "dense_index": round(index, 4)}
     return perm, info
