@@ -17,6 +17,10 @@ Sections (each prints ratios against SciPy measured beside them and goes into th
   one-rule minimum degree, with SciPy's RCM time beside them;
 * ``degenerate`` (``--degenerate``): every method on a 10⁶-row diagonal matrix, a 10⁵-row dense row
   plus path and a 10⁵-row star (target: each in at most 10 s);
+* ``first_use`` (``--first-use``): wall seconds of ``reorder order`` on a bundled 10⁴-row mesh in a
+  fresh process with an empty kernel cache and an empty rate cache (a fresh installation: compiles
+  the kernels and measures the machine), then of a second run (cached), beside a fresh process that
+  imports SciPy and runs SciPy's path on the same file (target: first ≤ 10 s, later ≤ 1 s);
 * ``cliffs`` (``--cliffs``): t / (n·log₂ n) for 2-D grids 200² … 1000² and 3-D grids 20³ … 60³ in
   steps of about 1.25× in n, and the largest jump between neighbours.
 
@@ -25,6 +29,7 @@ Usage::
     python scripts/bench_time_to_factor.py                       # cases + many
     python scripts/bench_time_to_factor.py --big --cliffs         # everything (tens of minutes)
     python scripts/bench_time_to_factor.py --methods mindegree,nd-fast --no-many
+    python scripts/bench_time_to_factor.py --no-cases --no-many --first-use --repeat 2
 
 Writes ``scripts/results/bench_time_to_factor.json``.
 """
@@ -197,6 +202,46 @@ def run_degenerate(args):
     return out
 
 
+_SCIPY_PROCESS = """
+import sys
+import scipy.io, scipy.sparse as sp
+from scipy.sparse.linalg import splu
+A = sp.csc_matrix(scipy.io.mmread(sys.argv[1]))
+splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0, options={"SymmetricMode": True})
+"""
+
+
+def run_first_use(args):
+    """Fresh-process wall times: first ``reorder order`` (empty caches), the second, SciPy's path."""
+    import os
+    import subprocess
+    import sys
+    import tempfile
+
+    from reorder.bundled import suite_dir
+
+    path = suite_dir() / args.first_use_matrix
+
+    def wall(cmd, env):
+        t0 = time.perf_counter()
+        subprocess.run(cmd, env=env, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        return time.perf_counter() - t0
+
+    out = {"matrix": path.name}
+    with tempfile.TemporaryDirectory() as d:
+        env = dict(os.environ, NUMBA_CACHE_DIR=os.path.join(d, "numba"), REORDER_CACHE_DIR=os.path.join(d, "rates"))
+        cmd = [sys.executable, "-m", "reorder.cli", "order", str(path), "-o", os.path.join(d, "perm.txt")]
+        out["first_seconds"] = wall(cmd, env)
+        out["later_seconds"] = min(wall(cmd, env) for _ in range(max(1, args.repeat)))
+    out["scipy_process_seconds"] = min(wall([sys.executable, "-c", _SCIPY_PROCESS, str(path)], dict(os.environ))
+                                       for _ in range(max(1, args.repeat)))
+    print(f"first use {path.name}: first run {out['first_seconds']:.2f}s (target 10 s), later "
+          f"{out['later_seconds']:.2f}s (target 1 s); a fresh process running SciPy's path "
+          f"{out['scipy_process_seconds']:.2f}s (later / SciPy {out['later_seconds'] / out['scipy_process_seconds']:.2f}x)",
+          flush=True)
+    return out
+
+
 def run_cliffs(args):
     out = {}
     lo2, hi2 = (int(x) for x in args.cliff_2d.split(","))
@@ -251,6 +296,8 @@ def main():
     ap.add_argument("--big", action="store_true", help="ordering speed on the 10^6-row grid")
     ap.add_argument("--cliffs", action="store_true")
     ap.add_argument("--degenerate", action="store_true", help="every method on diagonal / dense-row / star matrices")
+    ap.add_argument("--first-use", action="store_true", help="fresh-process first and later run of reorder order")
+    ap.add_argument("--first-use-matrix", default="heatplate_bolts_p1.mtx.gz")
     ap.add_argument("--cliff-method", default="nd")
     ap.add_argument("--cliff-2d", default="200,1000", help="smallest,largest side of the 2-D grids (largest 0: none)")
     ap.add_argument("--cliff-3d", default="20,60", help="smallest,largest side of the 3-D grids (largest 0: none)")
@@ -280,6 +327,8 @@ def main():
         result["speed"] = run_speed(args)
     if args.degenerate:
         result["degenerate"] = run_degenerate(args)
+    if args.first_use:
+        result["first_use"] = run_first_use(args)
     if args.cliffs:
         result["cliffs"] = run_cliffs(args)
     out = Path(args.out)
