@@ -138,3 +138,46 @@ def test_kernel_helpers_match_python():
     groups = [members[gptr[i]:gptr[i + 1]].tolist() for i in range(gptr.size - 1)]
     ref = [g.tolist() for g in dissect_module._pack_components(lab, 4, 3)]
     assert groups == ref
+
+
+def test_leaves_in_parts(monkeypatch):
+    """The leaves ordered in independent parts (the setting of graphs above 10⁵ vertices, forced
+    here on small graphs): a valid ordering whose exact count SuperLU confirms (structural count on
+    an M-matrix), the same for one and two threads, and for seed 0 (ties by vertex number) the same
+    as one global call, since leaves of different parts share no edge."""
+    from reorder.orderings.nd import presets
+
+    for A in (grid2d(40), grid3d(10), _random_geometric(900, 0.07, 4)):
+        G = from_matrix(A)
+        base = order(G, "nd", effort="fast", threads=1, seed=0)
+        monkeypatch.setitem(presets.TABLE["fast", "small"], "leaf_parts", 5)
+        parts0 = order(G, "nd", effort="fast", threads=2, seed=0)
+        one = order(G, "nd", effort="fast", threads=1, seed=3)
+        two = order(G, "nd", effort="fast", threads=2, seed=3)
+        monkeypatch.undo()
+        assert np.array_equal(base.perm, parts0.perm)
+        assert np.array_equal(one.perm, two.perm)
+        assert SeparatorTree.from_json(two.info["separator_tree"]).validate(two.perm, G)
+        M = m_matrix(A)
+        assert symbolic_factor(G, two.perm).nnz_factor == superlu_nnz_l(M[two.perm][:, two.perm])
+
+
+def test_fast_ramp_starts_at_the_mid_row_and_ends_at_the_huge_row():
+    """No step where the ``fast`` presets change size class (a step in time per n·log₂n is what
+    the ramp is for): just above LARGE the settings are the mid row's, just below RAMP_END the huge
+    row's sizes are nearly reached."""
+    from reorder.orderings.nd import presets
+    from reorder.orderings.records import NdSettings
+
+    s = NdSettings(effort="fast")
+    mid = presets.resolve(s, presets.LARGE)
+    above = presets.resolve(s, presets.LARGE + 1)
+    for name in ("leaf_size", "spectral_min", "hybrid_max", "hybrid_climb", "top_trials", "keep"):
+        assert getattr(above, name) == pytest.approx(getattr(mid, name), rel=1e-3), name
+    end = presets.resolve(s, presets.RAMP_END - 1)
+    huge = presets.resolve(s, presets.RAMP_END)
+    assert abs(end.leaf_size - huge.leaf_size) <= 2 and abs(end.spectral_min - huge.spectral_min) <= 10
+    assert end.hybrid_max <= end.leaf_size + 1  # the subtree choice has nothing left to try
+    for n in range(presets.LARGE, presets.RAMP_END, 20_000):  # sizes only grow along the ramp
+        a, b = presets.resolve(s, n), presets.resolve(s, n + 20_000)
+        assert b.leaf_size >= a.leaf_size and b.spectral_min >= a.spectral_min

@@ -249,13 +249,76 @@ def _split(graph: Graph, s, r: Resolved, seed: int, threads: int = 1):
     return run.perm, run.leaf_key, nodes, nsep
 
 
+def _leaf_parts(nodes: list[dict], parts: int) -> list[tuple[int, int]]:
+    """Position ranges of at most about ``parts`` disjoint subtrees of the separator tree that
+    hold every leaf: the largest subtree is replaced by its children while there are fewer than
+    ``parts`` (a node's own separator range holds no leaf). Depends on the tree alone."""
+    if not nodes:
+        return []
+    size = lambda i: nodes[i]["stop"] - nodes[i]["start"]  # noqa: E731
+    cur = [0]
+    while len(cur) < parts:
+        j = max(range(len(cur)), key=lambda q: (size(cur[q]), -q))
+        i = cur[j]
+        if not nodes[i]["children"]:
+            break
+        cur[j:j + 1] = nodes[i]["children"]
+    return sorted((nodes[i]["start"], nodes[i]["stop"]) for i in cur)
+
+
+def _order_leaves_in_parts(graph: Graph, leaf_key: np.ndarray, nodes: list[dict], parts: int, *, seed: int,
+                           threads: int):
+    """The leaves ordered by the halo minimum degree as :func:`~reorder.orderings.blocks.order_blocks`
+    does, but in independent calls, one per subtree of :func:`_leaf_parts` (its leaves, with the
+    surrounding separator vertices as halo), run in ``threads`` worker threads.
+
+    Leaves of different subtrees share no edge (separators lie between them), so each call sees
+    everything the global call would see of its leaves; the result depends on the tree, not on the
+    threads. Returns ``(leaf vertices grouped by leaf_key, each leaf in elimination order, method)``.
+    """
+    from ..mindegree import halo_minimum_degree
+
+    ranges = _leaf_parts(nodes, parts)
+    order_keys = np.argsort(leaf_key, kind="stable")  # separators (-1) first, then by leaf start
+    keys_sorted = leaf_key[order_keys]
+    tls = threading.local()
+
+    def one(rng):
+        a, b = rng
+        lo, hi = np.searchsorted(keys_sorted, [a, b])
+        verts = np.sort(order_keys[lo:hi])
+        if verts.size == 0:
+            return verts
+        mark = getattr(tls, "mark", None)
+        if mark is None:
+            mark = tls.mark = np.zeros(graph.n, dtype=np.int8)
+            tls.local = np.full(graph.n, -1, dtype=np.int64)
+        W, inside = _k.with_halo(graph.indptr, graph.indices, verts, mark)
+        ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, W, tls.local)
+        g = Graph(n=W.size, indptr=ip, indices=ix, weights=None, info={})
+        elim = W[np.asarray(halo_minimum_degree(g, inside, seed=seed), dtype=np.int64)]
+        # group by leaf (leaf_key), each leaf in elimination order
+        return elim[np.argsort(leaf_key[elim], kind="stable")]
+
+    if threads > 1 and len(ranges) > 1:
+        with ThreadPoolExecutor(max_workers=threads, thread_name_prefix="reorder-leaves") as pool:
+            out = list(pool.map(one, ranges))
+    else:
+        out = [one(rg) for rg in ranges]
+    ordered = np.concatenate(out) if out else np.zeros(0, dtype=np.int64)
+    return ordered.astype(np.int64, copy=False), "halo-mindegree"
+
+
 def dissect(graph: Graph, s, r: Resolved, *, seed: int):
     """One nested-dissection run with settings ``s`` resolved to ``r``: ``(perm, info)`` as
     :func:`reorder.orderings.nd.nested_dissection` returns them."""
     threads = ordering_threads(s.threads)
     perm, leaf_key, nodes, n_sep_vertices = _split(graph, s, r, seed, threads)
     leaf_mask = leaf_key >= 0
-    ordered, used = order_blocks(graph, leaf_key, leaf_mask, method=s.leaf_order, seed=seed)
+    if r.leaf_parts > 1 and s.leaf_order in ("auto", "halo"):
+        ordered, used = _order_leaves_in_parts(graph, leaf_key, nodes, r.leaf_parts, seed=seed, threads=threads)
+    else:
+        ordered, used = order_blocks(graph, leaf_key, leaf_mask, method=s.leaf_order, seed=seed)
     if ordered.size:
         keys = leaf_key[ordered]
         first = np.searchsorted(keys, keys, side="left")
