@@ -61,7 +61,7 @@ WHOLE = -1
 
 _COLUMNS = ("trials", "top_trials", "keep", "top_keep", "smooth", "top_smooth", "spectral_min", "leaf_size",
             "top_eigenvectors", "hybrid_max", "hybrid_wide", "hybrid_scores", "hybrid_climb", "multisection",
-            "restarts")
+            "restarts", "leaf_parts")
 
 # top_eigenvectors: at least this many (0: as many as ``eigenvectors``); leaf parts: the leaves are
 # ordered by this many independent halo minimum-degree calls (1: one global call)
@@ -83,7 +83,7 @@ _ROWS = {
 }
 
 #: ``TABLE[effort, size class]`` → ``{setting: value}``
-TABLE = {key: dict(zip(_COLUMNS, row)) for key, row in _ROWS.items()}
+TABLE = {key: dict(zip(_COLUMNS, row, strict=True)) for key, row in _ROWS.items()}
 
 
 def size_class(n: int) -> str:
