@@ -127,21 +127,26 @@ def saving_fraction(rung: Rung, index: float) -> float:
 
 
 #: seconds per n·log2(n) of ``nd --effort fast`` on the reference machine of
-#: :data:`reorder.cost.DEFAULT_RATES`. Measured (one loaded run, rescaled by that run's rate): 1.9 µs
-#: on the 7-point 40³ grid, 3-4 µs on the bundled 10⁴-row meshes (Python work per subproblem weighs
-#: more there). The constant is set for the large graphs, where the decision matters: on the small
-#: ones the saving is far below either estimate.
+#: :data:`reorder.cost.DEFAULT_RATES`, on graphs of at least :data:`ND_SMALL` vertices; smaller ones
+#: cost more per n·log2(n) (Python work per subproblem weighs more), by ``(ND_SMALL / n)^ND_SMALL_EXP``.
+#: Measured (one thread, CPU seconds, load about 2, over the model with the plain constant): 2-D
+#: grids 200²-300² 0.68-0.74x, 3-D grids 32³-40³ 1.1-1.2x, the bundled 10⁴-row meshes and grids
+#: 1.3-2.2x (geometric mean 1.7x), 3-D grids 12³-18³ 2.1x. Under-predicting there had ``auto``
+#: with 100 factorizations run ``nd-fast`` on 2-D meshes for nothing.
 ND_FAST_PER_NLOGN = 1.5e-6
+ND_SMALL, ND_SMALL_EXP = 30_000, 0.35
 
 
 def nd_seconds(graph: Graph, rates) -> float:
-    """Size model of ``nd --effort fast``: ``ND_FAST_PER_NLOGN · n·log2 n · (1 + nnz/(50 n))``,
-    scaled by how much slower this machine factors than the reference one (within [0.5, 4])."""
+    """Size model of ``nd --effort fast``: ``ND_FAST_PER_NLOGN · n·log2 n · (1 + nnz/(50 n)) ·
+    max(1, ND_SMALL/n)^ND_SMALL_EXP``, scaled by how much slower this machine factors than the
+    reference one (within [0.5, 4])."""
     from ..cost import DEFAULT_RATES
 
     n = max(graph.n, 2)
     speed = min(max(rates.ops / DEFAULT_RATES.ops, 0.5), 4.0)
-    return ND_FAST_PER_NLOGN * n * np.log2(n) * (1.0 + graph.indices.size / (50.0 * n)) * speed
+    small = max(1.0, ND_SMALL / n) ** ND_SMALL_EXP
+    return ND_FAST_PER_NLOGN * n * np.log2(n) * (1.0 + graph.indices.size / (50.0 * n)) * small * speed
 
 
 def _polish_share(n: int) -> float:
