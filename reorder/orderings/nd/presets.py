@@ -48,9 +48,10 @@ CLIMB = 100_000
 #: the ``huge`` rows order the leaves in this many independent parts (subtrees of the separator
 #: tree, fixed by the tree alone), in worker threads
 LEAF_PARTS = 8
-#: ``spectral_min`` that :func:`ramp` reaches at :data:`RAMP_END` (the ``huge`` rows use larger
-#: values: there the compiled breadth-first path takes over at 20 000 vertices)
-RAMP_SPECTRAL_MIN = 2000
+#: ``spectral_min`` that :func:`ramp` reaches at :data:`RAMP_END`, the ``huge`` rows' value: there
+#: the compiled breadth-first path takes over at 20 000 vertices (a ramp ending at 2000 left a step
+#: of about 2× in time per n·log₂n at RAMP_END)
+RAMP_SPECTRAL_MIN = 200000
 
 #: the pivot rules of the full subtree choice ("name/k": tie order of seed k, see
 #: :mod:`reorder.orderings.seeds`)
@@ -122,7 +123,7 @@ def ramp(n: int) -> dict | None:
     :data:`LARGE`) and the ``huge`` row (at :data:`RAMP_END`), at ``f = log(n / LARGE) / log(RAMP_END
     / LARGE)``; None outside that range.
 
-    Sizes and limits go geometrically (leaf size 50 → 400, ``spectral_min`` 500 → 2000, the subtree
+    Sizes and limits go geometrically (leaf size 50 → 400, ``spectral_min`` 500 → 20 000, the subtree
     choice's reach ``hybrid_max`` n → 2000 and ``hybrid_climb``, the all-rules reach
     ``hybrid_wide``, and the reach of the wide nodes' second pivot rule, ``hybrid_single`` n → 50);
     the second trial is kept on the subproblems above ``trials_min`` and the
