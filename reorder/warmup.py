@@ -5,8 +5,8 @@ compiles them, which takes tens of seconds; later runs load the cached code in w
 Neither may be counted as ordering time, so ``compare``, ``demo`` and the ``order`` command call
 :func:`ensure_compiled` before they start a clock, and :func:`warm` runs every method once on small
 graphs in each worker process. When the cache is cold, :func:`ensure_compiled` says so on stderr,
-once, and compiles on two cores: a helper process compiles the minimum-degree kernel while this one
-compiles the others.
+once, and compiles on two cores: a helper process compiles the minimum-degree elimination loops
+while this one compiles the others.
 """
 
 from __future__ import annotations
@@ -22,18 +22,36 @@ __all__ = ["ensure_compiled", "warm", "compile_seconds", "COMPILING_MESSAGE"]
 COMPILING_MESSAGE = "compiling kernels, first run only (15-30 s for minimum degree, more for the other methods; the code is cached for later runs)"
 
 #: Kernel modules each built-in method uses (the symbolic analysis adds ``symbolic``); other
-#: methods are assumed to use them all. ``auto`` needs minimum degree for its cheap start; the
-#: search compiles what a costlier candidate needs before it runs it (outside the ordering time).
+#: methods are assumed to use them all. ``auto`` needs minimum degree under one approximate rule for
+#: its cheap start; the search compiles what a costlier candidate needs before it runs it (outside
+#: the ordering time). The exact-degree rules of minimum degree (its multi-rule search, the root
+#: of nested dissection) have a kernel module of their own.
 _KERNELS = {
     "natural": (),
     "rcm": (),
     "spectral": ("traversal", "envelope"),
-    "mindegree": ("mindegree",),
-    "nd": ("traversal", "separators", "smallsep", "mindegree"),
-    "nd-fast": ("traversal", "separators", "smallsep", "mindegree"),
-    "rsb": ("traversal", "separators", "smallsep", "mindegree"),
+    "mindegree": ("mindegree", "mindegree_exact"),
+    "nd": ("traversal", "separators", "smallsep", "mindegree", "mindegree_exact"),
+    "nd-fast": ("traversal", "separators", "smallsep", "mindegree", "mindegree_exact"),
+    "rsb": ("traversal", "separators", "smallsep", "mindegree", "mindegree_exact"),
     "auto": ("mindegree",),
 }
+#: pivot rules of ``mindegree`` that need no exact-degree kernel
+_APPROXIMATE_RULES = ("degree", "mean_fill", "fill")
+
+
+def _modules_of(method) -> tuple:
+    """Kernel modules of a method name or spec ``NAME:OPTION=VALUE:...`` (all of them for an
+    unknown name); ``mindegree`` with an approximate ``score`` needs only its main module."""
+    from . import kernels
+
+    name, _, rest = str(method).partition(":")
+    mods = _KERNELS.get(name, kernels.MODULES)
+    if name == "mindegree" and any(opt.strip() in tuple(f"score={r}" for r in _APPROXIMATE_RULES)
+                                   for opt in rest.split(":")):
+        mods = ("mindegree",)
+    return mods
+
 
 _WARM: set = set()
 _ANNOUNCED = False
@@ -111,6 +129,57 @@ def _compile_separators() -> None:
                            0.3, 100, True)
 
 
+def _mindegree_arrays(score: int):
+    """Arguments of the minimum-degree loops for a 6² grid, set up by the interpreted
+    ``_setup`` (so that only the loop itself compiles where this is used)."""
+    import numpy as np
+
+    from .kernels import mindegree as md
+
+    g = _grid(_SIZES[0])
+    n = g.n
+    role = np.ones(n, dtype=np.int8)
+    tie = np.arange(n, dtype=np.int32)  # 32-bit indices: what every graph below 2^30 entries uses
+    return n, role, tie, md._setup.py_func(n, g.indptr, g.indices, role, tie, 0.2, score, False)
+
+
+def _compile_mindegree_loops(exact: bool = False) -> None:
+    """The elimination loop of minimum degree under the approximate rules (and with ``exact`` the
+    exact-rule loop), alone: the longest compilations, run in the helper process of
+    :func:`ensure_compiled` while this one compiles the rest."""
+    from .kernels import mindegree as md
+
+    n, role, tie, a = _mindegree_arrays(2)
+    ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, _, cnt, st, _ = a
+    md._eliminate(n, role, True, False, 2, st, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail,
+                  pivots, heap, hpos, hval, hseq, tie)
+    if exact:
+        from .kernels import mindegree_exact as mx
+
+        n, role, tie, a = _mindegree_arrays(5)
+        ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, cnt, st, \
+            stf = a
+        mx._eliminate_exact(n, role, False, 5, 0, True, st, stf, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast,
+                            bhead, btail, pivots, heap, hpos, hval, hseq, plist, tie)
+
+
+def _compile_mindegree_parts() -> None:
+    """The set-up and finishing kernels of minimum degree (what its entry points call besides the
+    loops), with the argument types the entry points pass."""
+    import numpy as np
+
+    from .kernels import mindegree as md
+
+    g = _grid(_SIZES[0])
+    n = g.n
+    role = np.ones(n, dtype=np.int8)
+    tie = np.arange(n, dtype=np.int32)
+    a = md._setup(n, g.indptr, g.indices, role, tie, 0.2, 2, True)
+    ws, mnext, xfirst, pivots = a[0], a[4], a[6], a[10]
+    md._grow(ws, 0, ws.size + 1, n)
+    md._finish(0, 0, g.indptr, xfirst, mnext, pivots)
+
+
 def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load: bool = True) -> bool:
     """Make sure the kernels of ``methods`` are compiled and loaded before anything is timed.
 
@@ -139,7 +208,7 @@ def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load:
     methods = list(available() if methods is None else methods)
     modules = {"symbolic"}
     for m in methods:
-        modules.update(_KERNELS.get(str(m).split(":", 1)[0], kernels.MODULES))  # a spec NAME:OPTION=VALUE
+        modules.update(_modules_of(m))
     needed = tuple(k for k in kernels.MODULES if k in modules and k not in _READY)
     cold = bool(needed) and kernels.cache_is_cold(needed)
     if not cold and not load:
@@ -166,14 +235,18 @@ def _build(methods, modules, cold, announce, parallel) -> None:
             announce(COMPILING_MESSAGE)
     helper = None
     if cold and parallel and "mindegree" in modules and (os.cpu_count() or 1) >= 2:
+        # the minimum-degree loops (the longest compilations) in a helper process; this one
+        # compiles the symbolic analysis, the set-up kernels of minimum degree and the rest meanwhile
+        args = ["--mindegree-loops"] + (["--exact"] if "mindegree_exact" in modules else [])
         try:
-            helper = subprocess.Popen([sys.executable, "-m", "reorder.warmup", "mindegree"],
+            helper = subprocess.Popen([sys.executable, "-m", "reorder.warmup", *args],
                                       stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
         except OSError:
             helper = None
     if helper is not None:
         try:
-            _compile_symbolic()  # meanwhile: the symbolic analysis and the kernels of light methods
+            _compile_symbolic()
+            _compile_mindegree_parts()
             warm([m for m in ("natural", "rcm", "spectral") if m in methods])
             if "separators" in modules:
                 _compile_separators()
@@ -188,4 +261,7 @@ def _build(methods, modules, cold, announce, parallel) -> None:
 
 
 if __name__ == "__main__":  # the helper process of ensure_compiled
-    warm(sys.argv[1:] or None)
+    if sys.argv[1:2] == ["--mindegree-loops"]:
+        _compile_mindegree_loops(exact="--exact" in sys.argv[2:])
+    else:
+        warm(sys.argv[1:] or None)

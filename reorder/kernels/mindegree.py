@@ -21,8 +21,8 @@ Published ingredients, written from their descriptions:
   P. Amestoy, "Hybridizing nested dissection and halo approximate minimum degree for efficient sparse
   matrix ordering", Concurrency: Practice and Experience 12 (2000) 69–84.
 
-Implementation notes (speed). The elimination loop :func:`_eliminate` takes every array as an
-argument and calls no other compiled function in its hot path (the bucket and heap operations are
+Implementation notes (speed). The elimination loops (:func:`_eliminate` here) take every array as an
+argument and call no other compiled function in their hot path (the bucket and heap operations are
 written out in place): numba keeps reference counts of arrays that are allocated locally or passed
 to callees, and in a loop of this size its pruning of those counts fails, so that each bucket
 operation cost a dozen atomic operations (27% of the time on a 10⁶-vertex grid, measured with
@@ -32,7 +32,17 @@ length, element count, weight, state, stamps, degree, bucket and hash links) sha
 ``V[v]`` of 16 fields, so that a vertex costs one cache miss instead of one per array; the heap keeps each entry's key beside its slot, and
 under the approximate fill rules the variables of a new element keep their heap slots through the
 step and get their new keys in place (one sift instead of a removal and an insertion). On the 10⁶-vertex
-grid these cut the kernel to about a third of the earlier time (score 0). Nothing here validates input;
+grid these cut the kernel to about a third of the earlier time (score 0).
+
+Implementation notes (compilation). numba's compile time grows with the number of statements of a
+function, and each compiled function is typed, lowered and optimised on its own: the first run of a
+fresh installation spends its time here. So the approximate rules (:func:`approximate_min_degree`,
+what the default ordering uses) and the exact rules (:mod:`reorder.kernels.mindegree_exact`, only
+for the multi-rule search and nested dissection) have separate loops and compile separately; the
+steps both loops take are written once and inlined into each by numba (``inline="always"``: no
+call in the hot loop); the set-up (:func:`_setup`, :func:`_merge_initial`) and the finishing
+(:func:`_finish`) are kernels of their own, which the warm-up (:mod:`reorder.warmup`) compiles in
+one process while another compiles the loop. Nothing here validates input;
 :mod:`reorder.orderings.mindegree` does. All kernels release the GIL.
 """
 
@@ -155,18 +165,252 @@ def _compact(ws, used, V):
     return dst
 
 
-@njit(cache=True, nogil=True)
-def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V, flag, hhead, mnext, mlast,
-               xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, tie):
-    """The elimination loop of :func:`quotient_min_degree` (one function: see the module notes).
 
-    Resumable: the loop's scalars live in ``st`` (and ``stf``). Returns 0 when every vertex is
-    ordered, else the workspace size it needs to go on (the caller grows ``ws`` and calls again; the
-    pivot of the interrupted step is kept in ``st``). Written as one long function on purpose: the
-    bucket and heap operations are spelled out where they are used, so that no array crosses a
-    function call in the hot loop.
+# ---------------------------------------------------------------------------------------------
+# Steps shared by the elimination loops (approximate rules here, exact rules in
+# :mod:`reorder.kernels.mindegree_exact`). They are inlined into each loop by numba itself
+# (``inline="always"``: the same code as if written out in place, no call and no reference
+# counting in the hot loop), so each loop compiles on its own, when first needed.
+
+
+@njit(inline="always")
+def _new_element(me, ws, V, used, counters):
+    """Gather the variables of the new element ``me`` (its own variables and those of the adjacent
+    elements, which it absorbs) into one list; their weights turn negative while they are in it.
+
+    Returns ``(degme, used, want)``: the weight of the list, the new used size of ``ws``, and
+    ``want > 0`` (nothing done but a compaction) when ``ws`` must first grow to ``want`` entries.
     """
     wslen = ws.size
+    ne = V[me, _NEL]
+    degme = 0
+    if ne == 0:
+        p0 = V[me, _START]
+        q = p0
+        for p in range(p0, p0 + V[me, _LEN]):
+            i = ws[p]
+            if V[i, _STATE] == _VAR and V[i, _WT] > 0:
+                ws[q] = i
+                q += 1
+                degme += V[i, _WT]
+                V[i, _WT] = -V[i, _WT]
+        V[me, _LEN] = q - p0
+        return degme, used, 0
+    need = V[me, _LEN] - ne
+    s = V[me, _START]
+    for k in range(ne):
+        e = ws[s + k]
+        if V[e, _STATE] == _ELEM:
+            need += V[e, _LEN]
+    if used + need > wslen:
+        used = _compact(ws, used, V)
+        counters[4] += 1
+        if used + need > wslen:
+            return degme, used, used + need
+    p0 = used
+    q = p0
+    s = V[me, _START]
+    for k in range(ne):
+        e = ws[s + k]
+        if V[e, _STATE] != _ELEM:
+            continue
+        for p in range(V[e, _START], V[e, _START] + V[e, _LEN]):
+            i = ws[p]
+            if V[i, _STATE] == _VAR and V[i, _WT] > 0:
+                ws[q] = i
+                q += 1
+                degme += V[i, _WT]
+                V[i, _WT] = -V[i, _WT]
+        V[e, _STATE] = _DEAD
+        V[e, _LEN] = 0
+        counters[3] += 1
+    for p in range(s + ne, s + V[me, _LEN]):
+        i = ws[p]
+        if V[i, _STATE] == _VAR and V[i, _WT] > 0:
+            ws[q] = i
+            q += 1
+            degme += V[i, _WT]
+            V[i, _WT] = -V[i, _WT]
+    V[me, _START] = p0
+    V[me, _LEN] = q - p0
+    V[me, _NEL] = 0
+    return degme, q, 0
+
+
+@njit(inline="always")
+def _clique_degrees(me, lme0, lme1, tick, degme, nel, nleft, aggressive, mask, role, ws, V, hhead, mnext, mlast,
+                    xfirst, xlast, counters):
+    """For the variables ``ws[lme0:lme1]`` of the new element ``me``: external degrees bounds
+    (field ``_EXTD``) and the largest old adjacent element (``_CLIQ``), pruned lists with ``me``
+    added, absorption of elements inside ``me``, mass elimination, hash keys (into ``hhead``).
+
+    Returns ``(tick, degme, nel, nleft)`` updated.
+    """
+    # ---- |Le \ Lme| for every element adjacent to the clique
+    tick += 1
+    for p in range(lme0, lme1):
+        i = ws[p]
+        nvi = -V[i, _WT]
+        s = V[i, _START]
+        for k in range(V[i, _NEL]):
+            e = ws[s + k]
+            if V[e, _STATE] != _ELEM:
+                continue
+            if V[e, _STAMP] != tick:
+                V[e, _STAMP] = tick
+                V[e, _WEXT] = V[e, _EDEG]
+            V[e, _WEXT] -= nvi
+
+    # ---- external degrees, list pruning, absorption, mass elimination, hash keys
+    for p in range(lme0, lme1):
+        i = ws[p]
+        nvi = -V[i, _WT]
+        s = V[i, _START]
+        q = s
+        ext = 0
+        h = 0
+        big = 0
+        nei = V[i, _NEL]
+        for k in range(nei):
+            e = ws[s + k]
+            if V[e, _STATE] != _ELEM:
+                continue
+            we = V[e, _WEXT]
+            if we > 0 or not aggressive:
+                ext += we
+                if V[e, _EDEG] > big:
+                    big = V[e, _EDEG]
+                ws[q] = e
+                q += 1
+                h += e
+            else:
+                V[e, _STATE] = _DEAD
+                V[e, _LEN] = 0
+                counters[3] += 1
+        newne = q - s
+        for k in range(nei, V[i, _LEN]):
+            j = ws[s + k]
+            if V[j, _STATE] == _VAR and V[j, _WT] > 0:
+                ext += V[j, _WT]
+                ws[q] = j
+                q += 1
+                h += j
+        # add the new element to the element part (there is always room: me itself or an
+        # element absorbed into me was pruned from this list)
+        if q > s + newne:
+            ws[q] = ws[s + newne]
+        ws[s + newne] = me
+        q += 1
+        newne += 1
+        h += me
+        V[i, _NEL] = newne
+        V[i, _LEN] = q - s
+        if ext == 0 and role[i] == 1:
+            # mass elimination: i is adjacent to nothing outside the new element
+            for k in range(newne):
+                e = ws[s + k]
+                if e != me:
+                    V[e, _EDEG] -= nvi
+            V[i, _STATE] = _DEAD
+            V[i, _WT] = 0
+            V[i, _LEN] = 0
+            degme -= nvi
+            nel += nvi
+            nleft -= nvi
+            if xfirst[me] == -1:
+                xfirst[me] = i
+            else:
+                mnext[xlast[me]] = i
+            xlast[me] = mlast[i]
+            counters[1] += nvi
+        else:
+            V[i, _EXTD] = ext
+            V[i, _CLIQ] = big
+            V[i, _HKEY] = h
+            if role[i] == 1:
+                b = h & mask
+                V[i, _HNEXT] = hhead[b]
+                hhead[b] = i
+
+    return tick, degme, nel, nleft
+
+
+@njit(inline="always")
+def _supervariables(lme0, lme1, tock, mask, role, ws, V, flag, hhead, mnext, mlast, counters):
+    """Merge the variables of ``ws[lme0:lme1]`` with identical lists (same hash bucket, then an
+    entry-by-entry comparison) into supervariables; returns ``tock`` updated."""
+    # ---- supervariables: variables of Lme with identical lists are merged
+    for p in range(lme0, lme1):
+        i = ws[p]
+        if V[i, _STATE] != _VAR or role[i] != 1:
+            continue
+        b = V[i, _HKEY] & mask
+        a = hhead[b]
+        if a == -1:
+            continue
+        hhead[b] = -1
+        while a != -1:
+            nxt = V[a, _HNEXT]
+            if nxt == -1:
+                break
+            tock += 1
+            sa = V[a, _START]
+            la = V[a, _LEN]
+            for k in range(la):
+                flag[ws[sa + k]] = tock
+            prev = a
+            c = nxt
+            while c != -1:
+                cn = V[c, _HNEXT]
+                same = V[c, _HKEY] == V[a, _HKEY] and V[c, _LEN] == la and V[c, _NEL] == V[a, _NEL]
+                if same:
+                    sc = V[c, _START]
+                    for k in range(la):
+                        if flag[ws[sc + k]] != tock:
+                            same = False
+                            break
+                if same:
+                    V[a, _WT] += V[c, _WT]  # both negative
+                    V[c, _WT] = 0
+                    V[c, _STATE] = _DEAD
+                    V[c, _LEN] = 0
+                    mnext[mlast[a]] = c
+                    mlast[a] = mlast[c]
+                    counters[2] += 1
+                    V[prev, _HNEXT] = cn
+                else:
+                    prev = c
+                c = cn
+            a = V[a, _HNEXT]
+
+    return tock
+
+
+@njit(inline="always")
+def _degree_bound(i, nvi, degme, nleft, V):
+    """Approximate external degree of variable ``i`` (weight ``nvi``) after the step: an upper
+    bound."""
+    d = V[i, _DEG] + degme - nvi
+    d2 = V[i, _EXTD] + degme - nvi
+    if d2 < d:
+        d = d2
+    if nleft - nvi < d:
+        d = nleft - nvi
+    if d < 0:
+        d = 0
+    return d
+
+
+@njit(cache=True, nogil=True)
+def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst, xlast,
+               bhead, btail, pivots, heap, hpos, hval, hseq, tie):
+    """The elimination loop of :func:`approximate_min_degree` (scores 0-2; see the module notes).
+
+    Resumable: the loop's scalars live in ``st``. Returns 0 when every vertex is ordered, else the
+    workspace size it needs to go on (the caller grows ``ws`` and calls again; the pivot of the
+    interrupted step is kept in ``st``). The bucket and heap operations are spelled out where they
+    are used, so that no array crosses a function call in the hot loop.
+    """
     mindeg = st[_S_MINDEG]
     nel = st[_S_NEL]
     npiv = st[_S_NPIV]
@@ -175,17 +419,11 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
     used = st[_S_USED]
     hsize = st[_S_HSIZE]
     seq = st[_S_SEQ]
-    npend = st[_S_NPEND]
-    stagedeg = st[_S_STAGEDEG]
     nleft = st[_S_NLEFT]
     ntodo = st[_S_NTODO]
     resume = st[_S_RESUME]
     mask = st[_S_MASK]
-    stageval = stf[0]
-    exact = score >= 3
-    useheap = score == 1 or score == 2 or score >= 4
-    lazy = useheap and not exact  # heap entries of Lme keep their slots during a step
-    dlim = delta if delta >= 0 else -delta - 1
+    useheap = score != 0  # the fill rules: a heap whose entries of Lme keep their slots during a step
 
     if st[_S_INIT] == 0:
         # ---- the initial queue, in tie order
@@ -195,10 +433,7 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
             if role[v] != 1 or V[v, _STATE] != _VAR:
                 continue
             if useheap:
-                if score == 4:
-                    hkv = V[v, _DEG] + 0.5
-                else:
-                    hkv = _fill_score(float(V[v, _DEG]), 0.0, float(V[v, _WT]))
+                hkv = _fill_score(float(V[v, _DEG]), 0.0, float(V[v, _WT]))
                 sq = seq
                 seq += 1
                 kk = hsize
@@ -244,131 +479,12 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
             me = resume
             resume = -1
         else:
-            # ---- pivot: a variable of least approximate external degree
-            if exact and npend > 0:
-                if useheap:
-                    if score == 5:
-                        stage_over = hsize == 0 or hval[0] > stageval
-                    else:
-                        stage_over = hsize == 0 or V[heap[0], _DEG] > stagedeg + dlim
-                else:
-                    while mindeg <= n and bhead[mindeg] == -1:
-                        mindeg += 1
-                    stage_over = mindeg > stagedeg + dlim
-                if stage_over:
-                    # end of a multiple-elimination stage: exact external degrees of the neighbours
-                    cap = 4 * stagedeg + 64
-                    for t in range(npend):
-                        i = plist[t] if delta >= 0 else plist[npend - 1 - t]
-                        V[i, _PEND] = 0
-                        if V[i, _STATE] != _VAR:
-                            continue
-                        if V[i, _DEG] > cap:
-                            # far above the least degree: keep the approximate degree (saves the
-                            # scans around hubs; such a vertex is not a pivot candidate soon)
-                            d = V[i, _DEG]
-                            big = V[i, _CLIQ]
-                        else:
-                            # exact external degree of i and the weight of its largest element
-                            tock += 1
-                            flag[i] = tock
-                            d = 0
-                            big = 0
-                            s = V[i, _START]
-                            nei = V[i, _NEL]
-                            for k in range(V[i, _LEN]):
-                                x = ws[s + k]
-                                if k < nei:
-                                    if V[x, _STATE] != _ELEM:
-                                        continue
-                                    we = 0
-                                    for p in range(V[x, _START], V[x, _START] + V[x, _LEN]):
-                                        j = ws[p]
-                                        if V[j, _STATE] == _VAR and j != i:
-                                            we += V[j, _WT]
-                                            if flag[j] != tock:
-                                                flag[j] = tock
-                                                d += V[j, _WT]
-                                    if we > big:
-                                        big = we
-                                elif V[x, _STATE] == _VAR and flag[x] != tock:
-                                    flag[x] = tock
-                                    d += V[x, _WT]
-                        if useheap:
-                            V[i, _DEG] = d
-                            if score == 5:
-                                hkv = _fill_score(float(d), float(big), float(V[i, _WT]))
-                            else:
-                                hkv = d + 0.5 * (1.0 - big / (d + 1.0))
-                            sq = seq
-                            seq += 1
-                            kk = hsize
-                            hsize += 1
-                            while kk > 0:
-                                pk = (kk - 1) >> 1
-                                if hkv < hval[pk] or (hkv == hval[pk] and sq > hseq[pk]):
-                                    u = heap[pk]
-                                    heap[kk] = u
-                                    hval[kk] = hval[pk]
-                                    hseq[kk] = hseq[pk]
-                                    hpos[u] = kk
-                                    kk = pk
-                                else:
-                                    break
-                            heap[kk] = i
-                            hval[kk] = hkv
-                            hseq[kk] = sq
-                            hpos[i] = kk
-                        else:
-                            V[i, _DEG] = d
-                            if fifo:
-                                t2 = btail[d]
-                                V[i, _BNEXT] = -1
-                                V[i, _BPREV] = t2
-                                if t2 == -1:
-                                    bhead[d] = i
-                                else:
-                                    V[t2, _BNEXT] = i
-                                btail[d] = i
-                            else:
-                                h0 = bhead[d]
-                                V[i, _BPREV] = -1
-                                V[i, _BNEXT] = h0
-                                if h0 != -1:
-                                    V[h0, _BPREV] = i
-                                else:
-                                    btail[d] = i
-                                bhead[d] = i
-                            if d < mindeg:
-                                mindeg = d
-                    npend = 0
+            # ---- pivot: a variable of least approximate external degree (or least fill score)
             if useheap:
                 me = heap[0]
-                mekey = hval[0]
-                rm = me
-            else:
-                while bhead[mindeg] == -1:
-                    mindeg += 1
-                if exact and npend == 0:
-                    stagedeg = mindeg
-                me = bhead[mindeg]
-                mekey = 0.0
-                rm = -1
-                # bucket removal of the pivot
-                pb = V[me, _BPREV]
-                qb = V[me, _BNEXT]
-                if pb == -1:
-                    bhead[V[me, _DEG]] = qb
-                else:
-                    V[pb, _BNEXT] = qb
-                if qb != -1:
-                    V[qb, _BPREV] = pb
-                else:
-                    btail[V[me, _DEG]] = pb
-            if rm >= 0:
                 # heap removal of the pivot
-                kk = hpos[rm]
-                hpos[rm] = -1
+                kk = hpos[me]
+                hpos[me] = -1
                 hsize -= 1
                 if kk != hsize:
                     last = heap[hsize]
@@ -411,9 +527,21 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
                     hval[kk] = lk
                     hseq[kk] = ls
                     hpos[last] = kk
-                if exact and npend == 0:
-                    stagedeg = V[me, _DEG]
-                    stageval = mekey
+            else:
+                while bhead[mindeg] == -1:
+                    mindeg += 1
+                me = bhead[mindeg]
+                # bucket removal of the pivot
+                pb = V[me, _BPREV]
+                qb = V[me, _BNEXT]
+                if pb == -1:
+                    bhead[V[me, _DEG]] = qb
+                else:
+                    V[pb, _BNEXT] = qb
+                if qb != -1:
+                    V[qb, _BPREV] = pb
+                else:
+                    btail[V[me, _DEG]] = pb
             pivots[npiv] = me
             npiv += 1
             nvp = V[me, _WT]
@@ -422,278 +550,54 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
             V[me, _STATE] = _ELEM
 
         # ---- the new element's variables Lme: A_me plus the variables of the adjacent elements
-        ne = V[me, _NEL]
-        degme = 0
-        if ne == 0:
-            p0 = V[me, _START]
-            q = p0
-            for p in range(p0, p0 + V[me, _LEN]):
-                i = ws[p]
-                if V[i, _STATE] == _VAR and V[i, _WT] > 0:
-                    ws[q] = i
-                    q += 1
-                    degme += V[i, _WT]
-                    V[i, _WT] = -V[i, _WT]
-            V[me, _LEN] = q - p0
-        else:
-            need = V[me, _LEN] - ne
-            s = V[me, _START]
-            for k in range(ne):
-                e = ws[s + k]
-                if V[e, _STATE] == _ELEM:
-                    need += V[e, _LEN]
-            if used + need > wslen:
-                used = _compact(ws, used, V)
-                counters[4] += 1
-                if used + need > wslen:
-                    # the caller grows the workspace and calls again with this pivot
-                    st[_S_MINDEG] = mindeg
-                    st[_S_NEL] = nel
-                    st[_S_NPIV] = npiv
-                    st[_S_TICK] = tick
-                    st[_S_TOCK] = tock
-                    st[_S_USED] = used
-                    st[_S_HSIZE] = hsize
-                    st[_S_SEQ] = seq
-                    st[_S_NPEND] = npend
-                    st[_S_STAGEDEG] = stagedeg
-                    st[_S_NLEFT] = nleft
-                    st[_S_RESUME] = me
-                    stf[0] = stageval
-                    return used + need
-            p0 = used
-            q = p0
-            s = V[me, _START]
-            for k in range(ne):
-                e = ws[s + k]
-                if V[e, _STATE] != _ELEM:
-                    continue
-                for p in range(V[e, _START], V[e, _START] + V[e, _LEN]):
-                    i = ws[p]
-                    if V[i, _STATE] == _VAR and V[i, _WT] > 0:
-                        ws[q] = i
-                        q += 1
-                        degme += V[i, _WT]
-                        V[i, _WT] = -V[i, _WT]
-                V[e, _STATE] = _DEAD
-                V[e, _LEN] = 0
-                counters[3] += 1
-            for p in range(s + ne, s + V[me, _LEN]):
-                i = ws[p]
-                if V[i, _STATE] == _VAR and V[i, _WT] > 0:
-                    ws[q] = i
-                    q += 1
-                    degme += V[i, _WT]
-                    V[i, _WT] = -V[i, _WT]
-            V[me, _START] = p0
-            V[me, _LEN] = q - p0
-            V[me, _NEL] = 0
-            used = q
+        degme, used, want = _new_element(me, ws, V, used, counters)
+        if want > 0:
+            # the caller grows the workspace and calls again with this pivot
+            st[_S_MINDEG] = mindeg
+            st[_S_NEL] = nel
+            st[_S_NPIV] = npiv
+            st[_S_TICK] = tick
+            st[_S_TOCK] = tock
+            st[_S_USED] = used
+            st[_S_HSIZE] = hsize
+            st[_S_SEQ] = seq
+            st[_S_NLEFT] = nleft
+            st[_S_RESUME] = me
+            return want
         lme0 = V[me, _START]
         lme1 = lme0 + V[me, _LEN]
 
-        # ---- take the variables of Lme out of the queue (their degrees change). Under the
-        # approximate fill rules they stay in the heap and get their new keys in place at the
-        # end of the step (no pivot is taken in between, so the heap holds the same entries at
+        # ---- under the degree rule, take the variables of Lme out of their buckets (their degrees
+        # change). Under the fill rules they stay in the heap and get their new keys in place at
+        # the end of the step (no pivot is taken in between, so the heap holds the same entries at
         # the next pick either way)
-        if not lazy:
+        if not useheap:
             for p in range(lme0, lme1):
                 i = ws[p]
-                if role[i] != 1 or V[i, _PEND] != 0:
+                if role[i] != 1:
                     continue
-                if useheap:
-                    kk = hpos[i]
-                    hpos[i] = -1
-                    hsize -= 1
-                    if kk != hsize:
-                        last = heap[hsize]
-                        lk = hval[hsize]
-                        ls = hseq[hsize]
-                        up = False
-                        if kk > 0:
-                            pk = (kk - 1) >> 1
-                            up = lk < hval[pk] or (lk == hval[pk] and ls > hseq[pk])
-                        if up:
-                            while kk > 0:
-                                pk = (kk - 1) >> 1
-                                if lk < hval[pk] or (lk == hval[pk] and ls > hseq[pk]):
-                                    u = heap[pk]
-                                    heap[kk] = u
-                                    hval[kk] = hval[pk]
-                                    hseq[kk] = hseq[pk]
-                                    hpos[u] = kk
-                                    kk = pk
-                                else:
-                                    break
-                        else:
-                            while True:
-                                c = 2 * kk + 1
-                                if c >= hsize:
-                                    break
-                                if c + 1 < hsize:
-                                    if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
-                                        c += 1
-                                if hval[c] < lk or (hval[c] == lk and hseq[c] > ls):
-                                    u = heap[c]
-                                    heap[kk] = u
-                                    hval[kk] = hval[c]
-                                    hseq[kk] = hseq[c]
-                                    hpos[u] = kk
-                                    kk = c
-                                else:
-                                    break
-                        heap[kk] = last
-                        hval[kk] = lk
-                        hseq[kk] = ls
-                        hpos[last] = kk
+                pb = V[i, _BPREV]
+                qb = V[i, _BNEXT]
+                if pb == -1:
+                    bhead[V[i, _DEG]] = qb
                 else:
-                    pb = V[i, _BPREV]
-                    qb = V[i, _BNEXT]
-                    if pb == -1:
-                        bhead[V[i, _DEG]] = qb
-                    else:
-                        V[pb, _BNEXT] = qb
-                    if qb != -1:
-                        V[qb, _BPREV] = pb
-                    else:
-                        btail[V[i, _DEG]] = pb
-
-        # ---- |Le \ Lme| for every element adjacent to the clique
-        tick += 1
-        for p in range(lme0, lme1):
-            i = ws[p]
-            nvi = -V[i, _WT]
-            s = V[i, _START]
-            for k in range(V[i, _NEL]):
-                e = ws[s + k]
-                if V[e, _STATE] != _ELEM:
-                    continue
-                if V[e, _STAMP] != tick:
-                    V[e, _STAMP] = tick
-                    V[e, _WEXT] = V[e, _EDEG]
-                V[e, _WEXT] -= nvi
-
-        # ---- external degrees, list pruning, absorption, mass elimination, hash keys
-        for p in range(lme0, lme1):
-            i = ws[p]
-            nvi = -V[i, _WT]
-            s = V[i, _START]
-            q = s
-            ext = 0
-            h = 0
-            big = 0
-            nei = V[i, _NEL]
-            for k in range(nei):
-                e = ws[s + k]
-                if V[e, _STATE] != _ELEM:
-                    continue
-                we = V[e, _WEXT]
-                if we > 0 or not aggressive:
-                    ext += we
-                    if V[e, _EDEG] > big:
-                        big = V[e, _EDEG]
-                    ws[q] = e
-                    q += 1
-                    h += e
+                    V[pb, _BNEXT] = qb
+                if qb != -1:
+                    V[qb, _BPREV] = pb
                 else:
-                    V[e, _STATE] = _DEAD
-                    V[e, _LEN] = 0
-                    counters[3] += 1
-            newne = q - s
-            for k in range(nei, V[i, _LEN]):
-                j = ws[s + k]
-                if V[j, _STATE] == _VAR and V[j, _WT] > 0:
-                    ext += V[j, _WT]
-                    ws[q] = j
-                    q += 1
-                    h += j
-            # add the new element to the element part (there is always room: me itself or an
-            # element absorbed into me was pruned from this list)
-            if q > s + newne:
-                ws[q] = ws[s + newne]
-            ws[s + newne] = me
-            q += 1
-            newne += 1
-            h += me
-            V[i, _NEL] = newne
-            V[i, _LEN] = q - s
-            if ext == 0 and role[i] == 1:
-                # mass elimination: i is adjacent to nothing outside the new element
-                for k in range(newne):
-                    e = ws[s + k]
-                    if e != me:
-                        V[e, _EDEG] -= nvi
-                V[i, _STATE] = _DEAD
-                V[i, _WT] = 0
-                V[i, _LEN] = 0
-                degme -= nvi
-                nel += nvi
-                nleft -= nvi
-                if xfirst[me] == -1:
-                    xfirst[me] = i
-                else:
-                    mnext[xlast[me]] = i
-                xlast[me] = mlast[i]
-                counters[1] += nvi
-            else:
-                V[i, _EXTD] = ext
-                V[i, _CLIQ] = big
-                V[i, _HKEY] = h
-                if role[i] == 1:
-                    b = h & mask
-                    V[i, _HNEXT] = hhead[b]
-                    hhead[b] = i
+                    btail[V[i, _DEG]] = pb
 
-        # ---- supervariables: variables of Lme with identical lists are merged
-        for p in range(lme0, lme1):
-            i = ws[p]
-            if V[i, _STATE] != _VAR or role[i] != 1:
-                continue
-            b = V[i, _HKEY] & mask
-            a = hhead[b]
-            if a == -1:
-                continue
-            hhead[b] = -1
-            while a != -1:
-                nxt = V[a, _HNEXT]
-                if nxt == -1:
-                    break
-                tock += 1
-                sa = V[a, _START]
-                la = V[a, _LEN]
-                for k in range(la):
-                    flag[ws[sa + k]] = tock
-                prev = a
-                c = nxt
-                while c != -1:
-                    cn = V[c, _HNEXT]
-                    same = V[c, _HKEY] == V[a, _HKEY] and V[c, _LEN] == la and V[c, _NEL] == V[a, _NEL]
-                    if same:
-                        sc = V[c, _START]
-                        for k in range(la):
-                            if flag[ws[sc + k]] != tock:
-                                same = False
-                                break
-                    if same:
-                        V[a, _WT] += V[c, _WT]  # both negative
-                        V[c, _WT] = 0
-                        V[c, _STATE] = _DEAD
-                        V[c, _LEN] = 0
-                        mnext[mlast[a]] = c
-                        mlast[a] = mlast[c]
-                        counters[2] += 1
-                        V[prev, _HNEXT] = cn
-                    else:
-                        prev = c
-                    c = cn
-                a = V[a, _HNEXT]
+        # ---- |Le \ Lme|, external degrees, absorption, mass elimination; supervariables
+        tick, degme, nel, nleft = _clique_degrees(me, lme0, lme1, tick, degme, nel, nleft, aggressive, mask, role, ws,
+                                                  V, hhead, mnext, mlast, xfirst, xlast, counters)
+        tock = _supervariables(lme0, lme1, tock, mask, role, ws, V, flag, hhead, mnext, mlast, counters)
 
         # ---- finish the element and put its variables back into the queue
         q = lme0
         for p in range(lme0, lme1):
             i = ws[p]
             if V[i, _STATE] != _VAR:
-                if lazy and hpos[i] >= 0:
+                if useheap and hpos[i] >= 0:
                     # merged or mass-eliminated in this step: leaves the heap
                     kk = hpos[i]
                     hpos[i] = -1
@@ -746,22 +650,9 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
             q += 1
             if role[i] != 1:
                 continue
-            d = V[i, _DEG] + degme - nvi  # approximate external degree (an upper bound)
-            d2 = V[i, _EXTD] + degme - nvi
-            if d2 < d:
-                d = d2
-            if nleft - nvi < d:
-                d = nleft - nvi
-            if d < 0:
-                d = 0
+            d = _degree_bound(i, nvi, degme, nleft, V)
             V[i, _DEG] = d
-            if exact:
-                # the exact degree is computed at the end of the stage
-                if V[i, _PEND] == 0:
-                    V[i, _PEND] = 1
-                    plist[npend] = i
-                    npend += 1
-            elif useheap:
+            if useheap:
                 m = V[i, _CLIQ] if V[i, _CLIQ] > degme else degme
                 if score == 2:
                     hkv = _fill_score(float(d), float(m - nvi), float(nvi)) * nvi ** 0.5
@@ -840,61 +731,80 @@ def _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V
 
 
 @njit(cache=True, nogil=True)
-def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False):
-    """Order the vertices with ``role == 1`` by approximate minimum external degree.
+def _merge_initial(n, role, ws, V, flag, mnext, mlast, counters):
+    """Initial supervariables: vertices to eliminate with identical closed neighbourhoods are merged
+    before the first elimination (their degrees become external degrees). Returns the last stamp
+    used in ``flag``."""
+    tock = 0
+    # initial supervariables: hash of the closed neighbourhood, then an exact comparison
+    # (all vertices at once: a table of about n buckets)
+    cmask = 1
+    while cmask < n:
+        cmask *= 2
+    chead = _minus_ones(cmask, ws)
+    cmask -= 1
+    for v in range(n):
+        if role[v] != 1:
+            continue
+        h = v
+        for p in range(V[v, _START], V[v, _START] + V[v, _LEN]):
+            h += ws[p]
+        V[v, _HKEY] = h
+        b = h & cmask
+        V[v, _HNEXT] = chead[b]
+        chead[b] = v
+    for v in range(n):
+        if role[v] != 1:
+            continue
+        b = V[v, _HKEY] & cmask
+        a = chead[b]
+        if a == -1:
+            continue
+        chead[b] = -1
+        while a != -1:
+            if V[a, _STATE] != _VAR:
+                a = V[a, _HNEXT]
+                continue
+            tock += 1
+            flag[a] = tock
+            for p in range(V[a, _START], V[a, _START] + V[a, _LEN]):
+                flag[ws[p]] = tock
+            prev = a
+            c = V[a, _HNEXT]
+            while c != -1:
+                cn = V[c, _HNEXT]
+                same = V[c, _HKEY] == V[a, _HKEY] and V[c, _LEN] == V[a, _LEN] and flag[c] == tock
+                if same:
+                    for p in range(V[c, _START], V[c, _START] + V[c, _LEN]):
+                        x = ws[p]
+                        if x != a and flag[x] != tock:
+                            same = False
+                            break
+                if same:
+                    V[a, _WT] += 1
+                    V[c, _WT] = 0
+                    V[c, _STATE] = _DEAD
+                    V[c, _LEN] = 0
+                    mnext[mlast[a]] = c
+                    mlast[a] = mlast[c]
+                    counters[2] += 1
+                    counters[6] += 1
+                    V[prev, _HNEXT] = cn
+                else:
+                    prev = c
+                c = cn
+            a = V[a, _HNEXT]
+    for v in range(n):
+        if V[v, _STATE] == _VAR:
+            V[v, _DEG] = V[v, _LEN] - (V[v, _WT] - 1)
+    return tock
 
-    Parameters
-    ----------
-    n : int
-    indptr, indices : int64 (or int32) arrays
-        Symmetric graph without self loops (CSR).
-    role : int8 array
-        ``1`` eliminate, ``0`` halo (kept in the graph, never eliminated), ``-1`` left out entirely
-        (postponed dense rows; the caller places them).
-    tie : int32 or int64 array
-        A permutation of ``0..n-1``; among vertices of equal initial degree the earlier one in
-        ``tie`` is eliminated first. Its type is the index type of the workspace: int32 only where
-        ``2 nnz + 3 n + 64 < 2**31`` (the caller checks; see :data:`INT32_LIMIT`).
-    aggressive : bool
-        Absorb every element whose variables all lie in the new element, not only the adjacent ones.
-    fifo : bool
-        Degree buckets first-in first-out (else last-in first-out).
-    elbow : float
-        Extra workspace as a fraction of the stored entries (a negative value leaves less than the
-        usual slack of ``2 n``, down to one free entry: tests use it to force the growth path).
-    score : int
-        ``0``: pick the least approximate external degree (degree buckets). ``1``: the least
-        approximate mean local fill per eliminated column (binary heap), see :func:`_fill_score`.
-        ``2``: that fill divided by the square root of the supervariable size instead (a milder
-        preference for large supervariables; our variant). ``3``: the least *exact* external
-        degree with multiple elimination (Liu 1985): pivots of degree at most the stage's least
-        degree plus ``delta`` that are not adjacent to an element made in the same stage are
-        eliminated one after another, and the exact degrees of their neighbours are recomputed
-        once, at the end of the stage (a vertex whose approximate degree exceeds four times the
-        stage's degree plus 64 keeps the approximate one). ``4``: as ``3``, ties of equal degree
-        broken towards the larger adjacent element (binary heap). ``5``: the score of ``1`` from
-        the exact degree and the exact largest adjacent element, in stages as for ``3`` (a stage
-        takes pivots of the stage's least score).
-    delta : int
-        Degree tolerance of a multiple-elimination stage (``score >= 3`` only); a negative value
-        ``-1 - t`` means tolerance ``t`` with the stage-end updates done in reverse order.
-    compress : bool
-        Merge vertices with identical closed neighbourhoods into supervariables before the first
-        elimination (e.g. the dofs of one node of an elasticity mesh), so that their degrees are
-        external degrees from the start.
 
-    Returns
-    -------
-    order : int64 array
-        The vertices with ``role == 1`` in elimination order. The members of one pivot
-        supervariable (indistinguishable: any order among them gives the same factor) come by
-        increasing degree in the given graph, ties in merge order (e.g. the hub of an arrow last).
-    counters : int64 array
-        ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace, merged_initially]``.
-    group : int64 array
-        ``group[k] = 2 t`` if ``order[k]`` was mass-eliminated at pivot step ``t``, ``2 t + 1`` if
-        it belongs to that step's pivot supervariable.
-    """
+@njit(cache=True, nogil=True)
+def _setup(n, indptr, indices, role, tie, elbow, score, compress):
+    """The workspace and every array of the elimination loops (see :func:`quotient_min_degree`):
+    ``(ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval,
+    hseq, plist, counters, st, stf)``."""
     itype = tie.dtype
     # ---- workspace: adjacency without left-out vertices and without halo-halo edges
     nnz = 0
@@ -983,67 +893,7 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
             ntodo += 1
     tock = 0  # stamp for list comparison
     if compress:
-        # initial supervariables: hash of the closed neighbourhood, then an exact comparison
-        # (all vertices at once: a table of about n buckets)
-        cmask = 1
-        while cmask < n:
-            cmask *= 2
-        chead = _minus_ones(cmask, ws)
-        cmask -= 1
-        for v in range(n):
-            if role[v] != 1:
-                continue
-            h = v
-            for p in range(V[v, _START], V[v, _START] + V[v, _LEN]):
-                h += ws[p]
-            V[v, _HKEY] = h
-            b = h & cmask
-            V[v, _HNEXT] = chead[b]
-            chead[b] = v
-        for v in range(n):
-            if role[v] != 1:
-                continue
-            b = V[v, _HKEY] & cmask
-            a = chead[b]
-            if a == -1:
-                continue
-            chead[b] = -1
-            while a != -1:
-                if V[a, _STATE] != _VAR:
-                    a = V[a, _HNEXT]
-                    continue
-                tock += 1
-                flag[a] = tock
-                for p in range(V[a, _START], V[a, _START] + V[a, _LEN]):
-                    flag[ws[p]] = tock
-                prev = a
-                c = V[a, _HNEXT]
-                while c != -1:
-                    cn = V[c, _HNEXT]
-                    same = V[c, _HKEY] == V[a, _HKEY] and V[c, _LEN] == V[a, _LEN] and flag[c] == tock
-                    if same:
-                        for p in range(V[c, _START], V[c, _START] + V[c, _LEN]):
-                            x = ws[p]
-                            if x != a and flag[x] != tock:
-                                same = False
-                                break
-                    if same:
-                        V[a, _WT] += 1
-                        V[c, _WT] = 0
-                        V[c, _STATE] = _DEAD
-                        V[c, _LEN] = 0
-                        mnext[mlast[a]] = c
-                        mlast[a] = mlast[c]
-                        counters[2] += 1
-                        counters[6] += 1
-                        V[prev, _HNEXT] = cn
-                    else:
-                        prev = c
-                    c = cn
-                a = V[a, _HNEXT]
-        for v in range(n):
-            if V[v, _STATE] == _VAR:
-                V[v, _DEG] = V[v, _LEN] - (V[v, _WT] - 1)
+        tock = _merge_initial(n, role, ws, V, flag, mnext, mlast, counters)
 
     st = np.empty(_NSTATE, dtype=np.int64)
     for k in range(_NSTATE):
@@ -1056,26 +906,30 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
     st[_S_NTODO] = ntodo
     st[_S_RESUME] = -1
     st[_S_MASK] = mask
-    while True:
-        want = _eliminate(n, role, aggressive, fifo, score, delta, st, stf, counters, ws, V, flag, hhead,
-                          mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, tie)
-        if want == 0:
-            break
-        # the workspace is full even after compaction: grow it (the live lists are at the front)
-        size = max(2 * wslen, want + n)
-        if tie.itemsize == 4 and size > INT32_LIMIT:
-            size = INT32_LIMIT
-        grown = np.empty(size, dtype=itype)
-        used = st[_S_USED]
-        for p in range(used):  # (a loop: a slice copy compiles numba's shape-error path, seconds)
-            grown[p] = ws[p]
-        ws = grown
-        wslen = size
+    return ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, \
+        counters, st, stf
 
+
+@njit(cache=True, nogil=True)
+def _grow(ws, used, want, n):
+    """A larger copy of the workspace ``ws`` (its live lists are in ``ws[:used]``), for a loop that
+    asked for ``want`` entries: the workspace is full even after compaction."""
+    size = max(2 * ws.size, want + n)
+    if ws.itemsize == 4 and size > INT32_LIMIT:
+        size = INT32_LIMIT
+    grown = np.empty(size, dtype=ws.dtype)
+    for p in range(used):  # (a loop: a slice copy compiles numba's shape-error path, seconds)
+        grown[p] = ws[p]
+    return grown
+
+
+@njit(cache=True, nogil=True)
+def _finish(ntodo, npiv, indptr, xfirst, mnext, pivots):
+    """The order and the step groups (see :func:`quotient_min_degree`) from the pivots and member
+    lists of a finished elimination."""
     # ---- the order: per pivot, the vertices mass-eliminated with it, then its supervariable
     # (members by increasing degree in the given graph, stable). A mass-eliminated vertex has no
     # neighbour outside the pivot's clique, so placing it first never costs more than after the pivot.
-    npiv = st[_S_NPIV]
     out = np.empty(ntodo, dtype=np.int64)
     group = np.empty(ntodo, dtype=np.int64)
     k = 0
@@ -1113,6 +967,83 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
                 _heapsort(keys)
                 for a in range(m):
                     out[k0 + a] = seg[keys[a] % m]
-    counters[0] = npiv
-    counters[5] = wslen
+    return out, group
+
+
+@njit(cache=True, nogil=True)
+def approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress):
+    """:func:`quotient_min_degree` under the approximate rules (``score`` 0, 1 or 2)."""
+    ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, \
+        counters, st, stf = _setup(n, indptr, indices, role, tie, elbow, score, compress)
+    while True:
+        want = _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst,
+                          xlast, bhead, btail, pivots, heap, hpos, hval, hseq, tie)
+        if want == 0:
+            break
+        ws = _grow(ws, st[_S_USED], want, n)
+    out, group = _finish(st[_S_NTODO], st[_S_NPIV], indptr, xfirst, mnext, pivots)
+    counters[0] = st[_S_NPIV]
+    counters[5] = ws.size
     return out, counters, group
+
+
+def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False):
+    """Order the vertices with ``role == 1`` by approximate minimum external degree.
+
+    Parameters
+    ----------
+    n : int
+    indptr, indices : int64 (or int32) arrays
+        Symmetric graph without self loops (CSR).
+    role : int8 array
+        ``1`` eliminate, ``0`` halo (kept in the graph, never eliminated), ``-1`` left out entirely
+        (postponed dense rows; the caller places them).
+    tie : int32 or int64 array
+        A permutation of ``0..n-1``; among vertices of equal initial degree the earlier one in
+        ``tie`` is eliminated first. Its type is the index type of the workspace: int32 only where
+        ``2 nnz + 3 n + 64 < 2**31`` (the caller checks; see :data:`INT32_LIMIT`).
+    aggressive : bool
+        Absorb every element whose variables all lie in the new element, not only the adjacent ones.
+    fifo : bool
+        Degree buckets first-in first-out (else last-in first-out).
+    elbow : float
+        Extra workspace as a fraction of the stored entries (a negative value leaves less than the
+        usual slack of ``2 n``, down to one free entry: tests use it to force the growth path).
+    score : int
+        ``0``: pick the least approximate external degree (degree buckets). ``1``: the least
+        approximate mean local fill per eliminated column (binary heap), see :func:`_fill_score`.
+        ``2``: that fill divided by the square root of the supervariable size instead (a milder
+        preference for large supervariables; our variant). ``3``: the least *exact* external
+        degree with multiple elimination (Liu 1985): pivots of degree at most the stage's least
+        degree plus ``delta`` that are not adjacent to an element made in the same stage are
+        eliminated one after another, and the exact degrees of their neighbours are recomputed
+        once, at the end of the stage (a vertex whose approximate degree exceeds four times the
+        stage's degree plus 64 keeps the approximate one). ``4``: as ``3``, ties of equal degree
+        broken towards the larger adjacent element (binary heap). ``5``: the score of ``1`` from
+        the exact degree and the exact largest adjacent element, in stages as for ``3`` (a stage
+        takes pivots of the stage's least score).
+    delta : int
+        Degree tolerance of a multiple-elimination stage (``score >= 3`` only); a negative value
+        ``-1 - t`` means tolerance ``t`` with the stage-end updates done in reverse order.
+    compress : bool
+        Merge vertices with identical closed neighbourhoods into supervariables before the first
+        elimination (e.g. the dofs of one node of an elasticity mesh), so that their degrees are
+        external degrees from the start.
+
+    Returns
+    -------
+    order : int64 array
+        The vertices with ``role == 1`` in elimination order. The members of one pivot
+        supervariable (indistinguishable: any order among them gives the same factor) come by
+        increasing degree in the given graph, ties in merge order (e.g. the hub of an arrow last).
+    counters : int64 array
+        ``[pivots, mass_eliminated, merged, absorbed, compactions, workspace, merged_initially]``.
+    group : int64 array
+        ``group[k] = 2 t`` if ``order[k]`` was mass-eliminated at pivot step ``t``, ``2 t + 1`` if
+        it belongs to that step's pivot supervariable.
+    """
+    if score >= 3:
+        from .mindegree_exact import exact_min_degree
+
+        return exact_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta, compress)
+    return approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress)

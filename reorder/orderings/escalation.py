@@ -214,7 +214,8 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
             # inside its timing; order() leaves that time out of the ordering seconds too
             from ..warmup import ensure_compiled
 
-            ensure_compiled([rung.method], load=False)
+            # (as a spec NAME:OPTION=VALUE: minimum degree under one approximate rule needs no exact-rule kernel)
+            ensure_compiled([":".join([rung.method, *(f"{k}={v}" for k, v in rung.options)])], load=False)
         t0 = time.perf_counter()
         perm, _ = _run(graph, rung, seed, extra)
         sym = symbolic_factor(graph, perm)

@@ -2,7 +2,8 @@
 
 :func:`minimum_degree` is the registered ``mindegree`` method; :func:`halo_minimum_degree` orders a
 subset of the vertices while the rest stay in the graph (for the leaves of nested dissection). Both
-call the compiled kernel :func:`reorder.kernels.mindegree.quotient_min_degree`.
+call the compiled kernels of :mod:`reorder.kernels.mindegree` (approximate rules) and
+:mod:`reorder.kernels.mindegree_exact` (exact rules).
 """
 
 from __future__ import annotations
@@ -13,7 +14,8 @@ import numpy as np
 
 from ..analysis import etree_postorder, symbolic_factor
 from ..graph import Graph
-from ..kernels.mindegree import INT32_LIMIT, quotient_min_degree
+from ..kernels.mindegree import INT32_LIMIT, approximate_min_degree
+from ..kernels.mindegree_exact import exact_min_degree
 from . import register
 from .records import SCORES, MinDegreeSettings
 
@@ -86,19 +88,15 @@ def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bo
         role = role.copy()
         role[heavy] = -1
     itype = _index_type(graph) if index_type is None else index_type
-    order, cnt, _ = quotient_min_degree(
-        n,
-        np.ascontiguousarray(graph.indptr, dtype=np.int64),  # no copy for a Graph (int64 already)
-        np.ascontiguousarray(graph.indices, dtype=np.int64),
-        role,
-        _tie_order(n, seed, reverse, itype),
-        bool(aggressive),
-        bool(fifo),
-        float(elbow),
-        int(score),
-        int(delta),
-        bool(compress),
-    )
+    ptr = np.ascontiguousarray(graph.indptr, dtype=np.int64)  # no copy for a Graph (int64 already)
+    idx = np.ascontiguousarray(graph.indices, dtype=np.int64)
+    tie = _tie_order(n, seed, reverse, itype)
+    if score >= 3:  # a kernel of its own, compiled only where an exact rule runs
+        order, cnt, _ = exact_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow), int(score),
+                                         int(delta), bool(compress))
+    else:
+        order, cnt, _ = approximate_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow),
+                                               int(score), bool(compress))
     if nheavy:
         # postponed rows go last, lightest first (ties by vertex number)
         ids = np.flatnonzero(heavy)
