@@ -19,7 +19,7 @@ import time
 __all__ = ["ensure_compiled", "warm", "compile_seconds", "COMPILING_MESSAGE"]
 
 #: What the command line prints (once) before a cold compilation.
-COMPILING_MESSAGE = "compiling kernels, first run only (15-30 s for minimum degree, more for the other methods; the code is cached for later runs)"
+COMPILING_MESSAGE = "compiling kernels, first run only (10-20 s for the default ordering, more for the other methods; the code is cached for later runs)"
 
 #: Kernel modules each built-in method uses (the symbolic analysis adds ``symbolic``); other
 #: methods are assumed to use them all. ``auto`` needs minimum degree under one approximate rule for
