@@ -180,6 +180,20 @@ def _compile_mindegree_parts() -> None:
     md._finish(0, 0, g.indptr, xfirst, mnext, pivots)
 
 
+def _calibrate() -> None:
+    """Measure (or load) this machine's factorization rates (:func:`reorder.cost.machine_rates`,
+    about 0.5-1 s once per machine, then cached on disk). On a cold start this runs while the helper
+    process still compiles: every ``reorder order`` prices its factorization, and ``auto`` its
+    candidates, so the first run would measure them afterwards anyway. A failure is left to the
+    first real use (it falls back to the default rates there)."""
+    try:
+        from .cost import machine_rates
+
+        machine_rates()
+    except Exception:
+        pass
+
+
 def ensure_compiled(methods=None, *, announce=None, parallel: bool = True, load: bool = True) -> bool:
     """Make sure the kernels of ``methods`` are compiled and loaded before anything is timed.
 
@@ -252,6 +266,7 @@ def _build(methods, modules, cold, announce, parallel) -> None:
                 _compile_separators()
         except Exception:
             pass
+        _calibrate()  # while the helper still compiles: the first ordering needs the rates anyway
         try:
             helper.wait()
         except BaseException:
