@@ -132,7 +132,10 @@ def _task(run: _Run, verts: np.ndarray, start: int, key: int, connected: bool):
         if run.compiled and m < r.spectral_min:  # the whole subtree in one compiled call
             nsep += _compiled_subtree(run, nodes, verts, start, key, connected, parent)
             continue
-        ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, verts, local)
+        if m == n:  # the whole graph (the root): no copy
+            ip, ix = graph.indptr, graph.indices
+        else:
+            ip, ix = _k.induced_subgraph(graph.indptr, graph.indices, verts, local)
         if not connected:
             ncomp, lab = _k.component_labels(ip, ix)
             if ncomp > 1:
@@ -279,14 +282,11 @@ def _order_leaves_in_parts(graph: Graph, leaf_key: np.ndarray, nodes: list[dict]
     from ..mindegree import halo_minimum_degree
 
     ranges = _leaf_parts(nodes, parts)
-    order_keys = np.argsort(leaf_key, kind="stable")  # separators (-1) first, then by leaf start
-    keys_sorted = leaf_key[order_keys]
     tls = threading.local()
 
     def one(rng):
         a, b = rng
-        lo, hi = np.searchsorted(keys_sorted, [a, b])
-        verts = np.sort(order_keys[lo:hi])
+        verts = np.flatnonzero((leaf_key >= a) & (leaf_key < b))  # in the worker: no serial sort
         if verts.size == 0:
             return verts
         mark = getattr(tls, "mark", None)
