@@ -167,10 +167,12 @@ def ramp_fast(n: int) -> dict | None:
 
     Leaf size 200 → 2000 and ``spectral_min`` 2000 → 20 000 go geometrically; the subtree choice's
     reach falls from 5 leaves to one (``hybrid_max`` = leaf size · 5^(1−f): at one leaf the choice
-    has nothing left to try) and its climb from :data:`CLIMB` to 2000; the top subproblems' second
-    trial stops at f = 1/2, their carried coarse candidates go 3 → 2 → 1 at f = 1/3 and 2/3. A
-    single switch at :data:`HUGE` made t/(n·log₂n) fall 3.4× between 540² and 560² grids
-    (measured, one thread).
+    has nothing left to try) and its climb from :data:`CLIMB` to 2000; the top subproblems (two
+    trials each) are those above ``0.1^(1−f)`` of the graph (the top four levels at f = 0, only
+    the root near the end), their carried coarse candidates go 3 → 2 → 1 at f = 1/3 and 2/3. A
+    single switch at :data:`HUGE` made t/(n·log₂n) fall 3.4× between 540² and 560² grids, and
+    the second top trial stopping at once at f = 1/2 1.9× between 488² and 546² (measured, one
+    thread).
     """
     if not LARGE < n < RAMP_END:
         return None
@@ -182,10 +184,9 @@ def ramp_fast(n: int) -> dict | None:
 
     leaf = geo(a["leaf_size"], b["leaf_size"])
     top_keep = 3 if f < 1 / 3 else 2 if f < 2 / 3 else 1
-    return dict(a, top_trials=a["top_trials"] if f < 0.5 else b["top_trials"], top_keep=top_keep, leaf_size=leaf,
-                spectral_min=geo(a["spectral_min"], b["spectral_min"]),
+    return dict(a, top_keep=top_keep, leaf_size=leaf, spectral_min=geo(a["spectral_min"], b["spectral_min"]),
                 hybrid_max=int(round(leaf * 5.0 ** (1.0 - f))), hybrid_climb=geo(CLIMB, 2000),
-                leaf_parts=LEAF_PARTS)
+                top_fraction=0.1 ** (1.0 - f), leaf_parts=LEAF_PARTS)
 
 
 def resolve(s, n: int) -> Resolved:
