@@ -82,3 +82,21 @@ def test_largest_expected_net_gain_runs_first():
     for later, earlier in (("nd", "nd-fast"), ("nd-best", "nd")):
         if later in info["ran"]:
             assert info["ran"].index(earlier) < info["ran"].index(later)
+
+
+def test_dissection_candidate_skips_the_subtree_choice_only_on_thick_factors():
+    # 3-D grids have a far larger dense-work index than 2-D ones (George 1973 growth rates, see
+    # above); there auto's nd-fast candidate runs without the dissection / minimum-degree subtree
+    # choice, and says so; on a 2-D grid it keeps it. The recorded count is SuperLU's.
+    from reorder.orderings.escalation import THICK_OPTIONS_INDEX
+
+    A = m_matrix(grid3d(14))
+    g3 = from_matrix(A)
+    perm, info = escalate(g3, rates=DEFAULT_RATES, factorizations=1e4)
+    assert info["dense_index"] >= THICK_OPTIONS_INDEX
+    assert info["candidates"]["nd-fast"]["settings"] == {"hybrid_max": 0}
+    if info["chosen"] == "nd-fast":
+        assert info["candidates"]["nd-fast"]["nnz_factor"] == superlu_nnz_l(sp.csc_matrix(A[perm][:, perm]))
+    _, info2 = escalate(from_matrix(grid2d(60)), rates=DEFAULT_RATES, factorizations=1e6)
+    assert info2["dense_index"] < THICK_OPTIONS_INDEX
+    assert "nnz_factor" in info2["candidates"]["nd-fast"] and "settings" not in info2["candidates"]["nd-fast"]

@@ -60,6 +60,9 @@ class Rung:
         The saving is ``saving`` only where the factor has much dense work (3-D meshes); it shrinks
         towards :data:`SPARSE_SHARE` of it where the factor is thin (2-D meshes), see
         :func:`saving_fraction`.
+    thick : tuple of (str, value)
+        Settings added where the dense-work index of the start's factor is at least
+        :data:`THICK_OPTIONS_INDEX` (3-D-like problems).
     """
 
     label: str
@@ -71,6 +74,7 @@ class Rung:
     per_size: bool = False
     after: str = ""
     dense: bool = False
+    thick: tuple = ()
 
 
 #: the cheap start: one pivot rule of minimum degree, the approximate fill per column of the
@@ -92,7 +96,8 @@ START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", Tru
 LADDER = (
     Rung("mindegree/mean_fill", "mindegree", (("score", "mean_fill"), ("compress", True)), cost=1.1, saving=0.06),
     Rung("rcm", "rcm", (), cost=0.5, saving=0.02),
-    Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True, dense=True),
+    Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True, dense=True,
+         thick=(("hybrid_max", 0),)),
     Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
     Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
     Rung("nd", "nd", (("effort", "normal"),), cost=7.0, saving=0.10, after="nd-fast"),
@@ -107,6 +112,14 @@ LADDER = (
 #: 7- and 27-point 3-D grids 0.36-0.37 and 35-41%. (A flat 45% had ``auto`` with many
 #: factorizations spend seconds on nested dissection of 2-D meshes for a few percent.)
 THIN_INDEX, THICK_INDEX, SPARSE_SHARE = 0.15, 0.35, 0.22
+
+#: from this dense-work index on, a rung's ``thick`` settings apply. ``nd-fast`` then skips its
+#: subtree choice between dissection and minimum degree: on 3-D grids minimum degree hardly ever wins
+#: a subtree, and the choice is a fifth to a quarter of the time. Measured (one thread, CPU, ``nd-fast``
+#: without / with the choice): 7-point 40³ 1.18 / 1.49 s, operations +0.02%; 27-point 30³ 1.41 / 1.60
+#: s, +0.5%; but 2-D grids 300² lose 5-8% of operations without it (indices 0.06-0.14; 3-D grids
+#: 0.35-0.37, a finned 3-D heat sink 0.17).
+THICK_OPTIONS_INDEX = 0.3
 
 
 def dense_index(counts) -> float:
@@ -159,12 +172,12 @@ def _polish_share(n: int) -> float:
     return float(6.0 ** -f)
 
 
-def _run(graph: Graph, rung: Rung, seed: int, extra: dict):
+def _run(graph: Graph, rung: Rung, opts: dict, seed: int, extra: dict):
     from . import order
 
     if rung.method == "superlu-md":
         return superlu_minimum_degree(graph), {}
-    opts = dict(rung.options)
+    opts = dict(opts)
     if rung.method == "nd":
         opts.update({k: v for k, v in extra.items() if v is not None})
     o = order(graph, rung.method, seed=seed, **opts)
@@ -208,22 +221,29 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     extra = dict(nd_options or {})
     results: dict[str, dict] = {}
 
+    index = None  # dense-work index of the start's factor, once known
+
     def attempt(rung):
+        opts = dict(rung.options)
+        if rung.thick and index is not None and index >= THICK_OPTIONS_INDEX:
+            opts.update(rung.thick)
         if rung.method != "superlu-md":
             # a cold kernel cache compiles this candidate's kernels now (said once on stderr), not
             # inside its timing; order() leaves that time out of the ordering seconds too
             from ..warmup import ensure_compiled
 
             # (as a spec NAME:OPTION=VALUE: minimum degree under one approximate rule needs no exact-rule kernel)
-            ensure_compiled([":".join([rung.method, *(f"{k}={v}" for k, v in rung.options)])], load=False)
+            ensure_compiled([":".join([rung.method, *(f"{k}={v}" for k, v in opts.items())])], load=False)
         t0 = time.perf_counter()
-        perm, _ = _run(graph, rung, seed, extra)
+        perm, _ = _run(graph, rung, opts, seed, extra)
         sym = symbolic_factor(graph, perm)
         sec = time.perf_counter() - t0
         counts = factor_counts(sym)
         pred = predict_seconds(counts, rates)
         results[rung.label] = {"nnz_factor": int(sym.nnz_factor), "factor_ops": int(sym.factor_ops),
                                "seconds": round(sec, 4), "predicted_factor_seconds": pred}
+        if len(opts) > len(rung.options):
+            results[rung.label]["settings"] = {k: v for k, v in opts.items() if (k, v) not in rung.options}
         return (pred, int(sym.nnz_factor)), perm, sec, counts
 
     key, perm, t_start, start_counts = attempt(START)
