@@ -30,26 +30,32 @@ _KERNELS = {
     "natural": (),
     "rcm": (),
     "spectral": ("traversal", "envelope"),
-    "mindegree": ("mindegree", "mindegree_exact"),
-    "nd": ("traversal", "separators", "smallsep", "mindegree", "mindegree_exact"),
-    "nd-fast": ("traversal", "separators", "smallsep", "mindegree", "mindegree_exact"),
-    "rsb": ("traversal", "separators", "smallsep", "mindegree", "mindegree_exact"),
+    "mindegree": ("mindegree", "mindegree_degree", "mindegree_exact"),
+    "nd": ("traversal", "separators", "smallsep", "mindegree", "mindegree_degree", "mindegree_exact"),
+    "nd-fast": ("traversal", "separators", "smallsep", "mindegree", "mindegree_degree", "mindegree_exact"),
+    "rsb": ("traversal", "separators", "smallsep", "mindegree", "mindegree_degree", "mindegree_exact"),
     "auto": ("mindegree",),
 }
 #: pivot rules of ``mindegree`` that need no exact-degree kernel
 _APPROXIMATE_RULES = ("degree", "mean_fill", "fill")
+#: ... and of those, the ones that need no degree-bucket kernel either
+_FILL_RULES = ("mean_fill", "fill")
 
 
 def _modules_of(method) -> tuple:
     """Kernel modules of a method name or spec ``NAME:OPTION=VALUE:...`` (all of them for an
-    unknown name); ``mindegree`` with an approximate ``score`` needs only its main module."""
+    unknown name); ``mindegree`` with a fill rule as ``score`` needs only its main module, with the
+    degree rule also the bucket loop's."""
     from . import kernels
 
     name, _, rest = str(method).partition(":")
     mods = _KERNELS.get(name, kernels.MODULES)
-    if name == "mindegree" and any(opt.strip() in tuple(f"score={r}" for r in _APPROXIMATE_RULES)
-                                   for opt in rest.split(":")):
-        mods = ("mindegree",)
+    if name == "mindegree":
+        opts = [opt.strip() for opt in rest.split(":")]
+        if any(f"score={r}" in opts for r in _FILL_RULES):
+            mods = ("mindegree",)
+        elif "score=degree" in opts:
+            mods = ("mindegree", "mindegree_degree")
     return mods
 
 
@@ -143,16 +149,23 @@ def _mindegree_arrays(score: int):
     return n, role, tie, md._setup.py_func(n, g.indptr, g.indices, role, tie, 0.2, score, False)
 
 
-def _compile_mindegree_loops(exact: bool = False) -> None:
-    """The elimination loop of minimum degree under the approximate rules (and with ``exact`` the
-    exact-rule loop), alone: the longest compilations, run in the helper process of
-    :func:`ensure_compiled` while this one compiles the rest."""
+def _compile_mindegree_loops(degree: bool = False, exact: bool = False) -> None:
+    """The elimination loop of minimum degree under the fill rules (with ``degree`` also the
+    degree-bucket loop, with ``exact`` the exact-rule loop), alone: the longest compilations, run in
+    the helper process of :func:`ensure_compiled` while this one compiles the rest."""
     from .kernels import mindegree as md
 
     n, role, tie, a = _mindegree_arrays(2)
     ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, _, cnt, st, _ = a
-    md._eliminate(n, role, True, False, 2, st, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail,
-                  pivots, heap, hpos, hval, hseq, tie)
+    md._eliminate(n, role, True, False, 2, st, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast, pivots, heap,
+                  hpos, hval, hseq, tie)
+    if degree:
+        from .kernels import mindegree_degree as mb
+
+        n, role, tie, a = _mindegree_arrays(0)
+        ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, _, _, _, _, _, cnt, st, _ = a
+        mb._eliminate_degree(n, role, True, False, st, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead,
+                             btail, pivots, tie)
     if exact:
         from .kernels import mindegree_exact as mx
 
@@ -251,7 +264,8 @@ def _build(methods, modules, cold, announce, parallel) -> None:
     if cold and parallel and "mindegree" in modules and (os.cpu_count() or 1) >= 2:
         # the minimum-degree loops (the longest compilations) in a helper process; this one
         # compiles the symbolic analysis, the set-up kernels of minimum degree and the rest meanwhile
-        args = ["--mindegree-loops"] + (["--exact"] if "mindegree_exact" in modules else [])
+        args = ["--mindegree-loops"] + (["--degree"] if "mindegree_degree" in modules else []) \
+            + (["--exact"] if "mindegree_exact" in modules else [])
         try:
             helper = subprocess.Popen([sys.executable, "-m", "reorder.warmup", *args],
                                       stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
@@ -277,6 +291,6 @@ def _build(methods, modules, cold, announce, parallel) -> None:
 
 if __name__ == "__main__":  # the helper process of ensure_compiled
     if sys.argv[1:2] == ["--mindegree-loops"]:
-        _compile_mindegree_loops(exact="--exact" in sys.argv[2:])
+        _compile_mindegree_loops(degree="--degree" in sys.argv[2:], exact="--exact" in sys.argv[2:])
     else:
         warm(sys.argv[1:] or None)

@@ -11,7 +11,7 @@ from __future__ import annotations
 import importlib
 
 #: The kernel modules, in the order the warm-up loads them.
-MODULES = ("symbolic", "traversal", "envelope", "separators", "smallsep", "mindegree", "mindegree_exact")
+MODULES = ("symbolic", "traversal", "envelope", "separators", "smallsep", "mindegree", "mindegree_degree", "mindegree_exact")
 
 
 def dispatchers(modules=MODULES) -> list:

@@ -36,11 +36,12 @@ grid these cut the kernel to about a third of the earlier time (score 0).
 
 Implementation notes (compilation). numba's compile time grows with the number of statements of a
 function, and each compiled function is typed, lowered and optimised on its own: the first run of a
-fresh installation spends its time here. So the approximate rules (:func:`approximate_min_degree`,
-what the default ordering uses) and the exact rules (:mod:`reorder.kernels.mindegree_exact`, only
-for the multi-rule search and nested dissection) have separate loops and compile separately; the
-steps both loops take are written once and inlined into each by numba (``inline="always"``: no
-call in the hot loop); the set-up (:func:`_setup`, :func:`_merge_initial`) and the finishing
+fresh installation spends its time here. So the fill rules (:func:`approximate_min_degree`,
+what the default ordering uses), the degree rule (:mod:`reorder.kernels.mindegree_degree`, degree
+buckets: nested dissection's leaves) and the exact rules (:mod:`reorder.kernels.mindegree_exact`,
+only for the multi-rule search and nested dissection) have separate loops and compile separately;
+the steps the loops share are written once and inlined into each by numba (``inline="always"``: no
+call in the hot loop), and each heap or bucket operation is spelled out once per loop; the set-up (:func:`_setup`, :func:`_merge_initial`) and the finishing
 (:func:`_finish`) are kernels of their own, which the warm-up (:mod:`reorder.warmup`) compiles in
 one process while another compiles the loop. Nothing here validates input;
 :mod:`reorder.orderings.mindegree` does. All kernels release the GIL.
@@ -167,7 +168,8 @@ def _compact(ws, used, V):
 
 
 # ---------------------------------------------------------------------------------------------
-# Steps shared by the elimination loops (approximate rules here, exact rules in
+# Steps shared by the elimination loops (fill rules here, the degree rule in
+# :mod:`reorder.kernels.mindegree_degree`, exact rules in
 # :mod:`reorder.kernels.mindegree_exact`). They are inlined into each loop by numba itself
 # (``inline="always"``: the same code as if written out in place, no call and no reference
 # counting in the hot loop), so each loop compiles on its own, when first needed.
@@ -403,15 +405,18 @@ def _degree_bound(i, nvi, degme, nleft, V):
 
 @njit(cache=True, nogil=True)
 def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst, xlast,
-               bhead, btail, pivots, heap, hpos, hval, hseq, tie):
-    """The elimination loop of :func:`approximate_min_degree` (scores 0-2; see the module notes).
+               pivots, heap, hpos, hval, hseq, tie):
+    """The elimination loop of :func:`approximate_min_degree` under the fill rules (scores 1 and 2;
+    the degree rule has a loop of its own, :mod:`reorder.kernels.mindegree_degree`).
 
     Resumable: the loop's scalars live in ``st``. Returns 0 when every vertex is ordered, else the
     workspace size it needs to go on (the caller grows ``ws`` and calls again; the pivot of the
-    interrupted step is kept in ``st``). The bucket and heap operations are spelled out where they
-    are used, so that no array crosses a function call in the hot loop.
+    interrupted step is kept in ``st``). The heap operations are spelled out where they are used,
+    so that no array crosses a function call in the hot loop. Every heap entry has a unique
+    sequence number that breaks ties of its key, so the minimum, and with it the order, does not
+    depend on the heap's layout: the pivot leaves the heap at the end of its step, in the same
+    sift as the variables merged or mass-eliminated in the step and the new keys of the others.
     """
-    mindeg = st[_S_MINDEG]
     nel = st[_S_NEL]
     npiv = st[_S_NPIV]
     tick = st[_S_TICK]
@@ -423,125 +428,70 @@ def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhea
     ntodo = st[_S_NTODO]
     resume = st[_S_RESUME]
     mask = st[_S_MASK]
-    useheap = score != 0  # the fill rules: a heap whose entries of Lme keep their slots during a step
 
     if st[_S_INIT] == 0:
-        # ---- the initial queue, in tie order
+        # ---- the initial heap, in tie order
         st[_S_INIT] = 1
         for k in range(n):
             v = tie[k] if fifo else tie[n - 1 - k]
             if role[v] != 1 or V[v, _STATE] != _VAR:
                 continue
-            if useheap:
-                hkv = _fill_score(float(V[v, _DEG]), 0.0, float(V[v, _WT]))
-                sq = seq
-                seq += 1
-                kk = hsize
-                hsize += 1
-                while kk > 0:
-                    pk = (kk - 1) >> 1
-                    if hkv < hval[pk] or (hkv == hval[pk] and sq > hseq[pk]):
-                        u = heap[pk]
-                        heap[kk] = u
-                        hval[kk] = hval[pk]
-                        hseq[kk] = hseq[pk]
-                        hpos[u] = kk
-                        kk = pk
-                    else:
-                        break
-                heap[kk] = v
-                hval[kk] = hkv
-                hseq[kk] = sq
-                hpos[v] = kk
-            else:
-                d = V[v, _DEG]
-                if fifo:
-                    t = btail[d]
-                    V[v, _BNEXT] = -1
-                    V[v, _BPREV] = t
-                    if t == -1:
-                        bhead[d] = v
-                    else:
-                        V[t, _BNEXT] = v
-                    btail[d] = v
+            hkv = _fill_score(float(V[v, _DEG]), 0.0, float(V[v, _WT]))
+            sq = seq
+            seq += 1
+            kk = hsize
+            hsize += 1
+            while kk > 0:
+                pk = (kk - 1) >> 1
+                if hkv < hval[pk] or (hkv == hval[pk] and sq > hseq[pk]):
+                    u = heap[pk]
+                    heap[kk] = u
+                    hval[kk] = hval[pk]
+                    hseq[kk] = hseq[pk]
+                    hpos[u] = kk
+                    kk = pk
                 else:
-                    h0 = bhead[d]
-                    V[v, _BPREV] = -1
-                    V[v, _BNEXT] = h0
-                    if h0 != -1:
-                        V[h0, _BPREV] = v
-                    else:
-                        btail[d] = v
-                    bhead[d] = v
+                    break
+            heap[kk] = v
+            hval[kk] = hkv
+            hseq[kk] = sq
+            hpos[v] = kk
 
     while nel < ntodo:
         if resume >= 0:
             me = resume
             resume = -1
         else:
-            # ---- pivot: a variable of least approximate external degree (or least fill score)
-            if useheap:
-                me = heap[0]
-                # heap removal of the pivot
-                kk = hpos[me]
-                hpos[me] = -1
-                hsize -= 1
-                if kk != hsize:
-                    last = heap[hsize]
-                    lk = hval[hsize]
-                    ls = hseq[hsize]
-                    up = False
-                    if kk > 0:
-                        pk = (kk - 1) >> 1
-                        up = lk < hval[pk] or (lk == hval[pk] and ls > hseq[pk])
-                    if up:
-                        while kk > 0:
-                            pk = (kk - 1) >> 1
-                            if lk < hval[pk] or (lk == hval[pk] and ls > hseq[pk]):
-                                u = heap[pk]
-                                heap[kk] = u
-                                hval[kk] = hval[pk]
-                                hseq[kk] = hseq[pk]
-                                hpos[u] = kk
-                                kk = pk
-                            else:
-                                break
+            # ---- pivot: the variable of least fill score; the last entry of the heap takes its
+            # slot and sifts down
+            me = heap[0]
+            hpos[me] = -1
+            hsize -= 1
+            if hsize > 0:
+                x = heap[hsize]
+                xk = hval[hsize]
+                xs = hseq[hsize]
+                kk = 0
+                while True:
+                    c = 2 * kk + 1
+                    if c >= hsize:
+                        break
+                    if c + 1 < hsize:
+                        if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
+                            c += 1
+                    if hval[c] < xk or (hval[c] == xk and hseq[c] > xs):
+                        u = heap[c]
+                        heap[kk] = u
+                        hval[kk] = hval[c]
+                        hseq[kk] = hseq[c]
+                        hpos[u] = kk
+                        kk = c
                     else:
-                        while True:
-                            c = 2 * kk + 1
-                            if c >= hsize:
-                                break
-                            if c + 1 < hsize:
-                                if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
-                                    c += 1
-                            if hval[c] < lk or (hval[c] == lk and hseq[c] > ls):
-                                u = heap[c]
-                                heap[kk] = u
-                                hval[kk] = hval[c]
-                                hseq[kk] = hseq[c]
-                                hpos[u] = kk
-                                kk = c
-                            else:
-                                break
-                    heap[kk] = last
-                    hval[kk] = lk
-                    hseq[kk] = ls
-                    hpos[last] = kk
-            else:
-                while bhead[mindeg] == -1:
-                    mindeg += 1
-                me = bhead[mindeg]
-                # bucket removal of the pivot
-                pb = V[me, _BPREV]
-                qb = V[me, _BNEXT]
-                if pb == -1:
-                    bhead[V[me, _DEG]] = qb
-                else:
-                    V[pb, _BNEXT] = qb
-                if qb != -1:
-                    V[qb, _BPREV] = pb
-                else:
-                    btail[V[me, _DEG]] = pb
+                        break
+                heap[kk] = x
+                hval[kk] = xk
+                hseq[kk] = xs
+                hpos[x] = kk
             pivots[npiv] = me
             npiv += 1
             nvp = V[me, _WT]
@@ -553,7 +503,6 @@ def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhea
         degme, used, want = _new_element(me, ws, V, used, counters)
         if want > 0:
             # the caller grows the workspace and calls again with this pivot
-            st[_S_MINDEG] = mindeg
             st[_S_NEL] = nel
             st[_S_NPIV] = npiv
             st[_S_TICK] = tick
@@ -567,159 +516,84 @@ def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhea
         lme0 = V[me, _START]
         lme1 = lme0 + V[me, _LEN]
 
-        # ---- under the degree rule, take the variables of Lme out of their buckets (their degrees
-        # change). Under the fill rules they stay in the heap and get their new keys in place at
-        # the end of the step (no pivot is taken in between, so the heap holds the same entries at
-        # the next pick either way)
-        if not useheap:
-            for p in range(lme0, lme1):
-                i = ws[p]
-                if role[i] != 1:
-                    continue
-                pb = V[i, _BPREV]
-                qb = V[i, _BNEXT]
-                if pb == -1:
-                    bhead[V[i, _DEG]] = qb
-                else:
-                    V[pb, _BNEXT] = qb
-                if qb != -1:
-                    V[qb, _BPREV] = pb
-                else:
-                    btail[V[i, _DEG]] = pb
-
-        # ---- |Le \ Lme|, external degrees, absorption, mass elimination; supervariables
+        # ---- |Le \ Lme|, external degrees, absorption, mass elimination; supervariables. The
+        # variables of Lme keep their heap slots meanwhile (no pivot is taken before their new keys)
         tick, degme, nel, nleft = _clique_degrees(me, lme0, lme1, tick, degme, nel, nleft, aggressive, mask, role, ws,
                                                   V, hhead, mnext, mlast, xfirst, xlast, counters)
         tock = _supervariables(lme0, lme1, tock, mask, role, ws, V, flag, hhead, mnext, mlast, counters)
 
-        # ---- finish the element and put its variables back into the queue
+        # ---- finish the element: the pivot (first) and the variables of Lme merged or
+        # mass-eliminated in this step leave the heap, the others get their new keys in place
         q = lme0
         for p in range(lme0, lme1):
             i = ws[p]
             if V[i, _STATE] != _VAR:
-                if useheap and hpos[i] >= 0:
-                    # merged or mass-eliminated in this step: leaves the heap
-                    kk = hpos[i]
-                    hpos[i] = -1
-                    hsize -= 1
-                    if kk != hsize:
-                        last = heap[hsize]
-                        lk = hval[hsize]
-                        ls = hseq[hsize]
-                        up = False
-                        if kk > 0:
-                            pk = (kk - 1) >> 1
-                            up = lk < hval[pk] or (lk == hval[pk] and ls > hseq[pk])
-                        if up:
-                            while kk > 0:
-                                pk = (kk - 1) >> 1
-                                if lk < hval[pk] or (lk == hval[pk] and ls > hseq[pk]):
-                                    u = heap[pk]
-                                    heap[kk] = u
-                                    hval[kk] = hval[pk]
-                                    hseq[kk] = hseq[pk]
-                                    hpos[u] = kk
-                                    kk = pk
-                                else:
-                                    break
-                        else:
-                            while True:
-                                c = 2 * kk + 1
-                                if c >= hsize:
-                                    break
-                                if c + 1 < hsize:
-                                    if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
-                                        c += 1
-                                if hval[c] < lk or (hval[c] == lk and hseq[c] > ls):
-                                    u = heap[c]
-                                    heap[kk] = u
-                                    hval[kk] = hval[c]
-                                    hseq[kk] = hseq[c]
-                                    hpos[u] = kk
-                                    kk = c
-                                else:
-                                    break
-                        heap[kk] = last
-                        hval[kk] = lk
-                        hseq[kk] = ls
-                        hpos[last] = kk
-                continue
-            nvi = -V[i, _WT]
-            V[i, _WT] = nvi
-            ws[q] = i
-            q += 1
-            if role[i] != 1:
-                continue
-            d = _degree_bound(i, nvi, degme, nleft, V)
-            V[i, _DEG] = d
-            if useheap:
-                m = V[i, _CLIQ] if V[i, _CLIQ] > degme else degme
-                if score == 2:
-                    hkv = _fill_score(float(d), float(m - nvi), float(nvi)) * nvi ** 0.5
-                else:
-                    hkv = _fill_score(float(d), float(m - nvi), float(nvi))
-                sq = seq
-                seq += 1
-                # new key in place: sift the entry up or down from its slot
                 kk = hpos[i]
-                up = False
-                if kk > 0:
-                    pk = (kk - 1) >> 1
-                    up = hkv < hval[pk] or (hkv == hval[pk] and sq > hseq[pk])
-                if up:
-                    while kk > 0:
-                        pk = (kk - 1) >> 1
-                        if hkv < hval[pk] or (hkv == hval[pk] and sq > hseq[pk]):
-                            u = heap[pk]
-                            heap[kk] = u
-                            hval[kk] = hval[pk]
-                            hseq[kk] = hseq[pk]
-                            hpos[u] = kk
-                            kk = pk
-                        else:
-                            break
-                else:
-                    while True:
-                        c = 2 * kk + 1
-                        if c >= hsize:
-                            break
-                        if c + 1 < hsize:
-                            if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
-                                c += 1
-                        if hval[c] < hkv or (hval[c] == hkv and hseq[c] > sq):
-                            u = heap[c]
-                            heap[kk] = u
-                            hval[kk] = hval[c]
-                            hseq[kk] = hseq[c]
-                            hpos[u] = kk
-                            kk = c
-                        else:
-                            break
-                heap[kk] = i
-                hval[kk] = hkv
-                hseq[kk] = sq
-                hpos[i] = kk
+                if kk < 0:
+                    continue
+                # the last entry of the heap takes the slot
+                hpos[i] = -1
+                hsize -= 1
+                if kk == hsize:
+                    continue
+                x = heap[hsize]
+                xk = hval[hsize]
+                xs = hseq[hsize]
             else:
-                if fifo:
-                    t2 = btail[d]
-                    V[i, _BNEXT] = -1
-                    V[i, _BPREV] = t2
-                    if t2 == -1:
-                        bhead[d] = i
+                nvi = -V[i, _WT]
+                V[i, _WT] = nvi
+                ws[q] = i
+                q += 1
+                if role[i] != 1:
+                    continue
+                d = _degree_bound(i, nvi, degme, nleft, V)
+                V[i, _DEG] = d
+                m = V[i, _CLIQ] if V[i, _CLIQ] > degme else degme
+                xk = _fill_score(float(d), float(m - nvi), float(nvi))
+                if score == 2:
+                    xk *= nvi ** 0.5
+                xs = seq
+                seq += 1
+                x = i
+                kk = hpos[i]
+            # sift the entry x (key xk, sequence xs) up or down from slot kk
+            up = False
+            if kk > 0:
+                pk = (kk - 1) >> 1
+                up = xk < hval[pk] or (xk == hval[pk] and xs > hseq[pk])
+            if up:
+                while kk > 0:
+                    pk = (kk - 1) >> 1
+                    if xk < hval[pk] or (xk == hval[pk] and xs > hseq[pk]):
+                        u = heap[pk]
+                        heap[kk] = u
+                        hval[kk] = hval[pk]
+                        hseq[kk] = hseq[pk]
+                        hpos[u] = kk
+                        kk = pk
                     else:
-                        V[t2, _BNEXT] = i
-                    btail[d] = i
-                else:
-                    h0 = bhead[d]
-                    V[i, _BPREV] = -1
-                    V[i, _BNEXT] = h0
-                    if h0 != -1:
-                        V[h0, _BPREV] = i
+                        break
+            else:
+                while True:
+                    c = 2 * kk + 1
+                    if c >= hsize:
+                        break
+                    if c + 1 < hsize:
+                        if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
+                            c += 1
+                    if hval[c] < xk or (hval[c] == xk and hseq[c] > xs):
+                        u = heap[c]
+                        heap[kk] = u
+                        hval[kk] = hval[c]
+                        hseq[kk] = hseq[c]
+                        hpos[u] = kk
+                        kk = c
                     else:
-                        btail[d] = i
-                    bhead[d] = i
-                if d < mindeg:
-                    mindeg = d
+                        break
+            heap[kk] = x
+            hval[kk] = xk
+            hseq[kk] = xs
+            hpos[x] = kk
         V[me, _LEN] = q - lme0
         V[me, _EDEG] = degme
         if V[me, _LEN] == 0:
@@ -972,12 +846,13 @@ def _finish(ntodo, npiv, indptr, xfirst, mnext, pivots):
 
 @njit(cache=True, nogil=True)
 def approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress):
-    """:func:`quotient_min_degree` under the approximate rules (``score`` 0, 1 or 2)."""
+    """:func:`quotient_min_degree` under the approximate fill rules (``score`` 1 or 2; the degree
+    rule, 0, is :func:`reorder.kernels.mindegree_degree.degree_min_degree`)."""
     ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, \
         counters, st, stf = _setup(n, indptr, indices, role, tie, elbow, score, compress)
     while True:
         want = _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst,
-                          xlast, bhead, btail, pivots, heap, hpos, hval, hseq, tie)
+                          xlast, pivots, heap, hpos, hval, hseq, tie)
         if want == 0:
             break
         ws = _grow(ws, st[_S_USED], want, n)
@@ -1046,4 +921,8 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         from .mindegree_exact import exact_min_degree
 
         return exact_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta, compress)
+    if score == 0:
+        from .mindegree_degree import degree_min_degree
+
+        return degree_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, compress)
     return approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress)

@@ -2,8 +2,9 @@
 
 :func:`minimum_degree` is the registered ``mindegree`` method; :func:`halo_minimum_degree` orders a
 subset of the vertices while the rest stay in the graph (for the leaves of nested dissection). Both
-call the compiled kernels of :mod:`reorder.kernels.mindegree` (approximate rules) and
-:mod:`reorder.kernels.mindegree_exact` (exact rules).
+call the compiled kernels of :mod:`reorder.kernels.mindegree` (approximate fill rules),
+:mod:`reorder.kernels.mindegree_degree` (degree rule) and :mod:`reorder.kernels.mindegree_exact`
+(exact rules).
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ import numpy as np
 from ..analysis import etree_postorder, symbolic_factor
 from ..graph import Graph
 from ..kernels.mindegree import INT32_LIMIT, approximate_min_degree
+from ..kernels.mindegree_degree import degree_min_degree
 from ..kernels.mindegree_exact import exact_min_degree
 from . import register
 from .records import SCORES, MinDegreeSettings
@@ -94,6 +96,9 @@ def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bo
     if score >= 3:  # a kernel of its own, compiled only where an exact rule runs
         order, cnt, _ = exact_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow), int(score),
                                          int(delta), bool(compress))
+    elif score == 0:  # the degree rule: a kernel of its own too (the default uses a fill rule)
+        order, cnt, _ = degree_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow),
+                                          bool(compress))
     else:
         order, cnt, _ = approximate_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow),
                                                int(score), bool(compress))
