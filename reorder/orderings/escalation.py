@@ -88,11 +88,14 @@ START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", Tru
 #: 1.1x, 0.2-0.5x and 8-15x; the mean-fill rule left 0.6% more nnz(L) than the start in geometric
 #: mean over the suite but 8.5% less on the 24³ grid and 7% less on an elasticity mesh); ``nd-fast``
 #: by the size model :func:`nd_seconds`; full polish as a multiple of the measured ``nd-fast`` seconds
-#: (6.2x on the 27-point 22³ grid, 7.7x on the 7-point 40³ grid; about 1.5x above 10⁵ vertices,
-#: where ``normal`` uses cheaper settings), three restarts 3x the measured polish. Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
+#: (6.2x on the 27-point 22³ grid, 7.7x on the 7-point 40³ grid; falling to 1.8x at 8·10⁵ vertices,
+#: where ``normal`` uses its cheapest settings), three restarts 3x the measured polish. Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
 #: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
 #: 0.45, on 3-D meshes; scaled down on thin factors by :func:`saving_fraction`; nd over nd-fast
 #: about 0.1; three restarts about 0.01).
+#: ``nd`` over ``nd-fast`` (time) up to the presets' ``LARGE`` (see :func:`_polish_share` above it)
+ND_POLISH = 7.0
+
 LADDER = (
     Rung("mindegree/mean_fill", "mindegree", (("score", "mean_fill"), ("compress", True)), cost=1.1, saving=0.06),
     Rung("rcm", "rcm", (), cost=0.5, saving=0.02),
@@ -100,7 +103,7 @@ LADDER = (
          thick=(("hybrid_max", 0),)),
     Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
     Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
-    Rung("nd", "nd", (("effort", "normal"),), cost=7.0, saving=0.10, after="nd-fast"),
+    Rung("nd", "nd", (("effort", "normal"),), cost=ND_POLISH, saving=0.10, after="nd-fast"),
     Rung("nd-best", "nd", (("effort", "best"),), cost=3.0, saving=0.01, after="nd"),
 )
 
@@ -164,12 +167,17 @@ def nd_seconds(graph: Graph, rates) -> float:
 
 def _polish_share(n: int) -> float:
     """How much of the polish multiple of ``nd`` over ``nd-fast`` is left at ``n`` vertices: 1 up to
-    the presets' ``LARGE``, falling geometrically to 1/6 at ``RAMP_END``, where both use the same
-    settings (measured on the 10⁶-row grid: 11.2 s against 11.3 s)."""
+    the presets' ``LARGE``, falling geometrically to :data:`POLISH_AT_RAMP_END` / :data:`ND_POLISH` at ``RAMP_END``,
+    where both use their cheapest settings (measured on the 10⁶-row grid, one thread: ``nd`` 8.2-9.4 s
+    of CPU against 5.0-5.3 s for ``nd-fast``)."""
     from .nd.presets import LARGE, RAMP_END
 
     f = min(max(np.log(max(n, 1) / LARGE) / np.log(RAMP_END / LARGE), 0.0), 1.0)
-    return float(6.0 ** -f)
+    return float((POLISH_AT_RAMP_END / ND_POLISH) ** f)
+
+
+#: ``nd`` over ``nd-fast`` (time) from ``RAMP_END`` vertices on
+POLISH_AT_RAMP_END = 1.8
 
 
 def _run(graph: Graph, rung: Rung, opts: dict, seed: int, extra: dict):
