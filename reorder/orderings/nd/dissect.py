@@ -49,18 +49,30 @@ def _pack_components(labels: np.ndarray, ncomp: int, leaf_size: int) -> list[np.
     return groups
 
 
-def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool) -> np.ndarray:
-    """Part labels (0, 1, 2 = separator) of the best of the trials on one connected subproblem."""
+def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool, threads: int = 1) -> np.ndarray:
+    """Part labels (0, 1, 2 = separator) of the best of the trials on one connected subproblem.
+
+    With ``threads`` > 1 the trials run in that many worker threads (the kernels release the GIL);
+    each trial has its own seed and the best is picked in trial order, so the result is the same.
+    """
     m = ip.size - 1
-    part, best = None, None
     ntr = max(1, r.trials) if m >= r.trials_min else 1
     if top:
         ntr = max(ntr, r.top_trials)
-    for t in range(ntr):
-        sep = vertex_separator(ip, ix, seed=trial_seed(seed, t, node), balance=s.balance,
-                               multilevel=s.multilevel, refine=s.refine, mode=s.split, coarse_size=s.coarse_size,
-                               eigenvectors=r.eigenvectors[top], spectral_min=r.spectral_min,
-                               keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0)
+
+    def trial(t):
+        return vertex_separator(ip, ix, seed=trial_seed(seed, t, node), balance=s.balance,
+                                multilevel=s.multilevel, refine=s.refine, mode=s.split, coarse_size=s.coarse_size,
+                                eigenvectors=r.eigenvectors[top], spectral_min=r.spectral_min,
+                                keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0)
+
+    if threads > 1 and ntr > 1:
+        with ThreadPoolExecutor(max_workers=min(threads, ntr), thread_name_prefix="reorder-trial") as pool:
+            seps = list(pool.map(trial, range(ntr)))
+    else:
+        seps = (trial(t) for t in range(ntr))
+    part, best = None, None
+    for sep in seps:
         a, b, c = sep.sizes
         ok = c > 0 and a > 0 and b > 0
         key = (ok, -c * (a + b) ** 2 / max(4.0 * a * b, 1.0), -abs(a - b)) if s.ratio_key else (ok, -c, -abs(a - b))
@@ -149,7 +161,9 @@ def _task(run: _Run, verts: np.ndarray, start: int, key: int, connected: bool):
                     pos += g.size
                 stack.extend(reversed(tasks))
                 continue
-        part = _best_separator(ip, ix, s, r, seed=run.seed, node=key, top=m >= r.top_fraction * n)
+        # the root runs alone (its subproblems wait for its separator): its trials take the threads
+        part = _best_separator(ip, ix, s, r, seed=run.seed, node=key, top=m >= r.top_fraction * n,
+                               threads=run.threads if m == n else 1)
         A, B, S = verts[part == 0], verts[part == 1], verts[part == 2]
         if A.size == 0 or B.size == 0 or S.size == 0:  # no useful separator (e.g. a clique)
             new_node(parent, start, start + m, "leaf")
