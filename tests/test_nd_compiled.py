@@ -181,3 +181,25 @@ def test_fast_ramp_starts_at_the_mid_row_and_ends_at_the_huge_row():
     for n in range(presets.LARGE, presets.RAMP_END, 20_000):  # sizes only grow along the ramp
         a, b = presets.resolve(s, n), presets.resolve(s, n + 20_000)
         assert b.leaf_size >= a.leaf_size and b.spectral_min >= a.spectral_min
+
+
+def test_normal_ramp_gives_up_effort_gradually():
+    # no cliff (issue 16): across the ramp of the normal preset, the trials and the top eigenvectors
+    # of each size of top subproblem (root, children, grandchildren: n, n/2, n/4 vertices) never
+    # come back as n grows; between sizes 1.25x apart no top subproblem loses more than one trial,
+    # and at most one level of them loses the third eigenvector (it used to leave all levels at once)
+    from reorder.orderings.nd.presets import LARGE, RAMP_END, ramp
+
+    def effort(n):
+        r = ramp(n)
+        trials = [r["top_trials"] + (1 if 0 < r["extra_trial_min"] <= n // 2 ** k else 0) for k in range(3)]
+        eig = [r["top_eigenvectors"] if n // 2 ** k >= r["eig_min"] else 0 for k in range(3)]
+        return trials, eig
+
+    sizes = [int(LARGE * 1.25 ** i) + 1 for i in range(40) if LARGE * 1.25 ** i + 1 < RAMP_END]
+    assert len(sizes) >= 8
+    for a, b in zip(sizes, sizes[1:]):
+        (ta, ea), (tb, eb) = effort(a), effort(b)
+        assert all(y <= x for x, y in zip(ta, tb)) and all(y <= x for x, y in zip(ea, eb))
+        assert max(x - y for x, y in zip(ta, tb)) <= 1
+        assert sum(x != y for x, y in zip(ea, eb)) <= 1

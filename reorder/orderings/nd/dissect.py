@@ -58,12 +58,12 @@ def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool, 
     m = ip.size - 1
     ntr = max(1, r.trials) if m >= r.trials_min else 1
     if top:
-        ntr = max(ntr, r.top_trials)
+        ntr = max(ntr, r.top_trials + (1 if 0 < r.extra_trial_min <= m else 0))
 
     def trial(t):
         return vertex_separator(ip, ix, seed=trial_seed(seed, t, node), balance=s.balance,
                                 multilevel=s.multilevel, refine=s.refine, mode=s.split, coarse_size=s.coarse_size,
-                                eigenvectors=r.eigenvectors[top], spectral_min=r.spectral_min,
+                                eigenvectors=r.eigenvectors[top and m >= r.eig_min], spectral_min=r.spectral_min,
                                 keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0)
 
     if threads > 1 and ntr > 1:

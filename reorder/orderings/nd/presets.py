@@ -116,6 +116,30 @@ class Resolved:
     smooth_min: int = 0
     hybrid_single: int | None = None
     leaf_parts: int = 1
+    eig_min: int = 0
+    extra_trial_min: int = 0
+
+
+#: the ``normal`` ramp's top eigenvectors reach ever fewer top subproblems from ``f`` =
+#: :data:`EIG_FROM` on (those of at least ``_eig_share(f) · n`` vertices) and none from
+#: :data:`EIG_OFF` on
+EIG_FROM, EIG_OFF = 0.3, 0.68
+
+
+def _eig_share(f: float) -> float:
+    """Least share of the graph a top subproblem needs for the top eigenvectors, at ramp position
+    ``f``: the top share ``0.1^(1-f) 0.5^f`` up to :data:`EIG_FROM`, then geometrically up to 1.2
+    (past the root) at :data:`EIG_OFF`. Stopping them at once at ``f = 0.63`` made t/(n·log₂n) fall
+    1.8x between 546² and 610² grids (measured, one thread: 546² 13.1 s of CPU with them, 10.4 s
+    without; the decline of the other settings alone gave 1.3x there), so each level of top
+    subproblems (grandchildren, children, root: each about n vertices of work) gives them up at its
+    own size."""
+    top = 0.1 ** (1.0 - f) * 0.5 ** f
+    if f <= EIG_FROM:
+        return top
+    t = min((f - EIG_FROM) / (EIG_OFF - EIG_FROM), 1.0)
+    start = 0.1 ** (1.0 - EIG_FROM) * 0.5 ** EIG_FROM
+    return start ** (1.0 - t) * 1.2 ** t
 
 
 def ramp(n: int) -> dict | None:
@@ -130,9 +154,13 @@ def ramp(n: int) -> dict | None:
     smoothed eigenvectors on those above ``smooth_min`` (both rising to n: smoothing costs about
     the same with one step as with four, so fewer steps would not make it cheaper); the top
     subproblems (which get the top settings) are those above ``top_fraction`` of the graph, 0.1 →
-    0.5. The discrete settings change at sizes apart from each other: top trials 6 → 1 (at f ≈
-    0.05, 0.16, 0.30, 0.51, 0.77), carried candidates 3 → 2 → 1 (f = 0.24, 0.40), the third top
-    eigenvector stops at f = 0.63. Measured before (one thread, CPU time per n·log₂n, loaded
+    0.5. The discrete settings change gradually or at sizes apart from each other: top trials
+    6^(1−f) (the fractional part as one more trial on the top subproblems of at least (1 − part)·n
+    vertices, so that a trial leaves the smaller top subproblems first), carried candidates 3 → 2 → 1
+    (f = 0.24, 0.40), the third top eigenvector leaves the top subproblems level by level between
+    f = 0.3 and 0.68 (:func:`_eig_share`); with whole trials switching at f ≈ 0.51 and 0.77 and the
+    eigenvector at 0.63 the steps were 1.34-1.81x between 488² and 763² grids (CPU, one run), now
+    1.35-1.51x. Measured before (one thread, CPU time per n·log₂n, loaded
     machine): with the third eigenvector and a top trial both stopping at f = 1/2 a step of 1.54×
     between 488² and 546² grids; with smoothing stopping at once at f = 7/8, 2.1× between 763² and
     853². So the effort falls by many small steps instead of one (a jump of 8× between 312² and
@@ -152,9 +180,15 @@ def ramp(n: int) -> dict | None:
     leaf = geo(a["leaf_size"], b["leaf_size"])
     keep = 3 if f < 0.24 else 2 if f < 0.40 else 1
     spectral_min = geo(a["spectral_min"], b["spectral_min"])
-    return dict(a, top_trials=geo(a["top_trials"], b["top_trials"]), keep=keep, top_keep=keep,
+    trials = a["top_trials"] ** (1.0 - f) * b["top_trials"] ** f
+    whole = int(np.floor(trials))
+    # the fractional part as one more trial on the top subproblems of at least (1 - part) · n
+    # vertices: as the count falls, the extra trial leaves the smaller top subproblems first
+    extra_min = int(np.floor((1.0 - (trials - whole)) * n)) + 1
+    return dict(a, top_trials=whole, extra_trial_min=extra_min, keep=keep, top_keep=keep,
                 spectral_min=spectral_min, smooth_min=geo(spectral_min, n), hybrid_single=geo(n, a["leaf_size"]),
-                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < 0.63 else b["top_eigenvectors"],
+                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < EIG_OFF else b["top_eigenvectors"],
+                eig_min=int(np.ceil(n * _eig_share(f))),
                 hybrid_max=geo(n, b["hybrid_max"]), hybrid_wide=geo(a["hybrid_wide"], a["leaf_size"]),
                 hybrid_climb=geo(CLIMB, b["hybrid_max"]), trials_min=geo(leaf, n),
                 top_fraction=0.1 ** (1.0 - f) * 0.5 ** f, leaf_parts=LEAF_PARTS)
@@ -220,4 +254,5 @@ def resolve(s, n: int) -> Resolved:
         trials_min=max(int(s.trials_min), int(row.get("trials_min", 0))),
         top_fraction=max(float(s.top_fraction), float(row.get("top_fraction", 0.0))),
         smooth_min=int(row.get("smooth_min", 0)), hybrid_single=row.get("hybrid_single"),
-        leaf_parts=int(row.get("leaf_parts", 1)))
+        leaf_parts=int(row.get("leaf_parts", 1)), eig_min=int(row.get("eig_min", 0)),
+        extra_trial_min=int(row.get("extra_trial_min", 0)) if s.top_trials is None else 0)
