@@ -242,7 +242,7 @@ def _score(w, maxside):
 def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE, multilevel: bool = True,
                      refine: bool = True, mode: str = "window", coarse_size: int = COARSE_SIZE,
                      eigenvectors: int = 2, spectral_min: int = 2000, bfs_starts: int = 4,
-                     keep: int = 3, smooth: int = 4) -> Separator:
+                     keep: int = 3, smooth: int = 4, smooth_refine: int = 4) -> Separator:
     """Vertex separator of a connected graph: coarsen, split spectrally, cover, refine, project.
 
     Parameters
@@ -275,6 +275,9 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
     bfs_starts : int
         Breadth-first level structures (from a pseudo-peripheral vertex and random vertices) tried as
         further candidate vectors on the coarsest graph.
+    smooth_refine : int
+        Of the smoothed vectors' separators, only the ``smooth_refine`` of least cover are refined
+        (FM on the finest level is the costly step).
     keep : int
         The best ``keep`` distinct coarsest-level separators are each projected and refined up to
         the finest level, where the best is kept (the coarse separator weight predicts the final one
@@ -346,8 +349,8 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
             p2, _ = split_vector(indptr, indices, vec, balance=balance, mode=mode)
             part = cover_separator(indptr, indices, p2)
             fine.append((_score(np.bincount(part, minlength=3), maxside_n), j, part))
-        if len(fine) > 4:
-            fine = sorted(fine, key=lambda t: (t[0], t[1]))[:4]
+        if len(fine) > smooth_refine:
+            fine = sorted(fine, key=lambda t: (t[0], t[1]))[:max(int(smooth_refine), 1)]
         for key, j, part in fine:
             if refine:
                 refine_separator(indptr, indices, part, balance=balance)

@@ -188,7 +188,7 @@ def test_normal_ramp_gives_up_effort_gradually():
     # of each size of top subproblem (root, children, grandchildren: n, n/2, n/4 vertices) never
     # come back as n grows; between sizes 1.25x apart no top subproblem loses more than one trial,
     # and at most one level of them loses the third eigenvector (it used to leave all levels at once)
-    from reorder.orderings.nd.presets import LARGE, RAMP_END, ramp
+    from reorder.orderings.nd.presets import RAMP_END, RAMP_START, ramp
 
     def effort(n):
         r = ramp(n)
@@ -196,7 +196,7 @@ def test_normal_ramp_gives_up_effort_gradually():
         eig = [r["top_eigenvectors"] if n // 2 ** k >= r["eig_min"] else 0 for k in range(3)]
         return trials, eig
 
-    sizes = [int(LARGE * 1.25 ** i) + 1 for i in range(40) if LARGE * 1.25 ** i + 1 < RAMP_END]
+    sizes = [int(RAMP_START * 1.25 ** i) + 1 for i in range(40) if RAMP_START * 1.25 ** i + 1 < RAMP_END]
     assert len(sizes) >= 8
     for a, b in zip(sizes, sizes[1:]):
         (ta, ea), (tb, eb) = effort(a), effort(b)

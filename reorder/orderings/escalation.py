@@ -93,7 +93,7 @@ START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", Tru
 #: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
 #: 0.45, on 3-D meshes; scaled down on thin factors by :func:`saving_fraction`; nd over nd-fast
 #: about 0.1; three restarts about 0.01).
-#: ``nd`` over ``nd-fast`` (time) up to the presets' ``LARGE`` (see :func:`_polish_share` above it)
+#: ``nd`` over ``nd-fast`` (time) up to the presets' ``RAMP_START`` (see :func:`_polish_share` above it)
 ND_POLISH = 7.0
 
 LADDER = (
@@ -167,12 +167,12 @@ def nd_seconds(graph: Graph, rates) -> float:
 
 def _polish_share(n: int) -> float:
     """How much of the polish multiple of ``nd`` over ``nd-fast`` is left at ``n`` vertices: 1 up to
-    the presets' ``LARGE``, falling geometrically to :data:`POLISH_AT_RAMP_END` / :data:`ND_POLISH` at ``RAMP_END``,
+    the presets' ``RAMP_START``, falling geometrically to :data:`POLISH_AT_RAMP_END` / :data:`ND_POLISH` at ``RAMP_END``,
     where both use their cheapest settings (measured on the 10⁶-row grid, one thread: ``nd`` 8.2-9.4 s
     of CPU against 5.0-5.3 s for ``nd-fast``)."""
-    from .nd.presets import LARGE, RAMP_END
+    from .nd.presets import RAMP_END, RAMP_START
 
-    f = min(max(np.log(max(n, 1) / LARGE) / np.log(RAMP_END / LARGE), 0.0), 1.0)
+    f = min(max(np.log(max(n, 1) / RAMP_START) / np.log(RAMP_END / RAMP_START), 0.0), 1.0)
     return float((POLISH_AT_RAMP_END / ND_POLISH) ** f)
 
 

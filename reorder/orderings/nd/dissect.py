@@ -64,7 +64,8 @@ def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool, 
         return vertex_separator(ip, ix, seed=trial_seed(seed, t, node), balance=s.balance,
                                 multilevel=s.multilevel, refine=s.refine, mode=s.split, coarse_size=s.coarse_size,
                                 eigenvectors=r.eigenvectors[top and m >= r.eig_min], spectral_min=r.spectral_min,
-                                keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0)
+                                keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0,
+                                smooth_refine=r.smooth_refine)
 
     if threads > 1 and ntr > 1:
         with ThreadPoolExecutor(max_workers=min(threads, ntr), thread_name_prefix="reorder-trial") as pool:

@@ -5,10 +5,10 @@ Every ``nd`` setting left at None takes its value from :data:`TABLE`, keyed by t
 explicit setting overrides the table. Everything a user reads about the presets (docstrings, help
 texts) points here; the thresholds are named once, below.
 
-Reading the table: ``normal`` polishes graphs up to :data:`LARGE` vertices fully (six trials on
+Reading the table: ``normal`` polishes graphs up to :data:`RAMP_START` vertices fully (six trials on
 the top subproblems carrying three smoothed candidates, three top eigenvectors, every pivot rule and
 multisection in the subtree choice up to :data:`MID`) and goes over to the cheap ``huge`` settings
-gradually between :data:`LARGE` and :data:`RAMP_END` vertices (:func:`ramp`: no step in time per
+gradually between :data:`RAMP_START` and :data:`RAMP_END` vertices (:func:`ramp`: no step in time per
 n·log₂n where a preset would switch at once; its ``large`` row is not used); ``fast``
 uses the cheaper settings at every size (one trial per subproblem, no smoothing, the subtree choice
 up to ``hybrid_max`` and only the ``degree`` rule, no multisection) and, between :data:`LARGE` and
@@ -28,7 +28,7 @@ import numpy as np
 
 from ..records import EFFORTS
 
-__all__ = ["EFFORTS", "MID", "LARGE", "HUGE", "RAMP_END", "CLIMB", "LEAF_PARTS", "ALL_RULES", "TABLE", "size_class", "ramp", "ramp_fast",
+__all__ = ["EFFORTS", "MID", "LARGE", "RAMP_START", "HUGE", "RAMP_END", "CLIMB", "LEAF_PARTS", "ALL_RULES", "TABLE", "size_class", "ramp", "ramp_fast",
            "Resolved", "resolve"]
 
 
@@ -37,6 +37,10 @@ __all__ = ["EFFORTS", "MID", "LARGE", "HUGE", "RAMP_END", "CLIMB", "LEAF_PARTS",
 MID = 30_000
 #: above this many vertices ("large"): "normal" uses the cheaper settings
 LARGE = 100_000
+#: ``normal`` starts giving up its polish at this many vertices (:func:`ramp`): from :data:`LARGE`
+#: the decline to the ``huge`` row's cost (about 25x in time per n·log₂n) left steps of 1.4-1.6x
+#: between grids 1.25x apart in n; from here, over 1.7 more such steps, 1.2-1.45x (measured below)
+RAMP_START = 60_000
 #: above this many vertices ("huge"): larger leaves, one trial everywhere, the subtree choice does
 #: not climb ("best" excepted)
 HUGE = 300_000
@@ -118,6 +122,7 @@ class Resolved:
     leaf_parts: int = 1
     eig_min: int = 0
     extra_trial_min: int = 0
+    smooth_refine: int = 4
 
 
 #: the ``normal`` ramp's top eigenvectors reach ever fewer top subproblems from ``f`` =
@@ -142,10 +147,25 @@ def _eig_share(f: float) -> float:
     return start ** (1.0 - t) * 1.2 ** t
 
 
+#: from this ramp position on nothing is smoothed any more (the root, the last subproblem smoothed,
+#: with one refined candidate: about a sixth of the time there; stopping at the ramp's end made the
+#: last step 1.51x, the one before 1.15x)
+SMOOTH_OFF = 0.95
+
+
+def _smooth_refine(f: float) -> int:
+    """How many smoothed separators are refined at ramp position ``f``: 4 up to f = 0.75, then one
+    fewer every 0.08 of ``f``, down to 1. Near the ramp's end the root is the only subproblem still
+    smoothed, and its four refinements on the whole graph were 30% of the time on a 853² grid (9.5 s
+    of CPU, 6.6 s without smoothing), all given up at once at the ramp's end: a step of 1.63x in
+    t/(n·log₂n) between 853² and 954² grids (one run)."""
+    return int(min(4, max(1, 4 - int((f - 0.75) / 0.08) - (1 if f > 0.75 else 0))))
+
+
 def ramp(n: int) -> dict | None:
-    """The ``normal`` settings for ``LARGE < n < RAMP_END`` vertices: between the ``mid`` row (at
-    :data:`LARGE`) and the ``huge`` row (at :data:`RAMP_END`), at ``f = log(n / LARGE) / log(RAMP_END
-    / LARGE)``; None outside that range.
+    """The ``normal`` settings for ``RAMP_START < n < RAMP_END`` vertices: between the ``mid`` row
+    (at :data:`RAMP_START`) and the ``huge`` row (at :data:`RAMP_END`), at ``f = log(n / RAMP_START) /
+    log(RAMP_END / RAMP_START)``; None outside that range.
 
     Sizes and limits go geometrically (leaf size 50 → 400, ``spectral_min`` 500 → 20 000, the subtree
     choice's reach ``hybrid_max`` n → 2000 and ``hybrid_climb``, the all-rules reach
@@ -166,9 +186,9 @@ def ramp(n: int) -> dict | None:
     853². So the effort falls by many small steps instead of one (a jump of 8× between 312² and
     349² grids with the table alone).
     """
-    if not LARGE < n < RAMP_END:
+    if not RAMP_START < n < RAMP_END:
         return None
-    f = float(np.log(n / LARGE) / np.log(RAMP_END / LARGE))
+    f = float(np.log(n / RAMP_START) / np.log(RAMP_END / RAMP_START))
     a, b = TABLE["normal", "mid"], dict(TABLE["normal", "huge"], spectral_min=RAMP_SPECTRAL_MIN)
 
     def geo(x, y):
@@ -186,9 +206,9 @@ def ramp(n: int) -> dict | None:
     # vertices: as the count falls, the extra trial leaves the smaller top subproblems first
     extra_min = int(np.floor((1.0 - (trials - whole)) * n)) + 1
     return dict(a, top_trials=whole, extra_trial_min=extra_min, keep=keep, top_keep=keep,
-                spectral_min=spectral_min, smooth_min=geo(spectral_min, n), hybrid_single=geo(n, a["leaf_size"]),
+                spectral_min=spectral_min, smooth_min=geo(spectral_min, n) if f < SMOOTH_OFF else n + 1, hybrid_single=geo(n, a["leaf_size"]),
                 leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < EIG_OFF else b["top_eigenvectors"],
-                eig_min=int(np.ceil(n * _eig_share(f))),
+                eig_min=int(np.ceil(n * _eig_share(f))), smooth_refine=_smooth_refine(f),
                 hybrid_max=geo(n, b["hybrid_max"]), hybrid_wide=geo(a["hybrid_wide"], a["leaf_size"]),
                 hybrid_climb=geo(CLIMB, b["hybrid_max"]), trials_min=geo(leaf, n),
                 top_fraction=0.1 ** (1.0 - f) * 0.5 ** f, leaf_parts=LEAF_PARTS)
@@ -255,4 +275,5 @@ def resolve(s, n: int) -> Resolved:
         top_fraction=max(float(s.top_fraction), float(row.get("top_fraction", 0.0))),
         smooth_min=int(row.get("smooth_min", 0)), hybrid_single=row.get("hybrid_single"),
         leaf_parts=int(row.get("leaf_parts", 1)), eig_min=int(row.get("eig_min", 0)),
-        extra_trial_min=int(row.get("extra_trial_min", 0)) if s.top_trials is None else 0)
+        extra_trial_min=int(row.get("extra_trial_min", 0)) if s.top_trials is None else 0,
+        smooth_refine=int(row.get("smooth_refine", 4)))
