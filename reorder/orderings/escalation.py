@@ -93,8 +93,9 @@ START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", Tru
 #: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
 #: 0.45, on 3-D meshes; scaled down on thin factors by :func:`saving_fraction`; nd over nd-fast
 #: about 0.1; three restarts about 0.01).
-#: ``nd`` over ``nd-fast`` (time) up to the presets' ``RAMP_START`` (see :func:`_polish_share` above it)
-ND_POLISH = 7.0
+#: ``nd`` over ``nd-fast`` (time) up to the presets' ``RAMP_START``, and from ``RAMP_END`` on
+#: (see :func:`_polish_share`)
+ND_POLISH, POLISH_AT_RAMP_END = 7.0, 1.8
 
 LADDER = (
     Rung("mindegree/mean_fill", "mindegree", (("score", "mean_fill"), ("compress", True)), cost=1.1, saving=0.06),
@@ -167,17 +168,13 @@ def nd_seconds(graph: Graph, rates) -> float:
 
 def _polish_share(n: int) -> float:
     """How much of the polish multiple of ``nd`` over ``nd-fast`` is left at ``n`` vertices: 1 up to
-    the presets' ``RAMP_START``, falling geometrically to :data:`POLISH_AT_RAMP_END` / :data:`ND_POLISH` at ``RAMP_END``,
-    where both use their cheapest settings (measured on the 10⁶-row grid, one thread: ``nd`` 8.2-9.4 s
+    the presets' ``RAMP_START``, falling geometrically to :data:`POLISH_AT_RAMP_END` /
+    :data:`ND_POLISH` at ``RAMP_END``, where both use their cheapest settings (measured on the 10⁶-row grid, one thread: ``nd`` 8.2-9.4 s
     of CPU against 5.0-5.3 s for ``nd-fast``)."""
     from .nd.presets import RAMP_END, RAMP_START
 
     f = min(max(np.log(max(n, 1) / RAMP_START) / np.log(RAMP_END / RAMP_START), 0.0), 1.0)
     return float((POLISH_AT_RAMP_END / ND_POLISH) ** f)
-
-
-#: ``nd`` over ``nd-fast`` (time) from ``RAMP_END`` vertices on
-POLISH_AT_RAMP_END = 1.8
 
 
 def _run(graph: Graph, rung: Rung, opts: dict, seed: int, extra: dict):

@@ -15,9 +15,7 @@ import numpy as np
 
 from ..analysis import etree_postorder, symbolic_factor
 from ..graph import Graph
-from ..kernels.mindegree import INT32_LIMIT, approximate_min_degree
-from ..kernels.mindegree_degree import degree_min_degree
-from ..kernels.mindegree_exact import exact_min_degree
+from ..kernels.mindegree import INT32_LIMIT, quotient_min_degree
 from . import register
 from .records import SCORES, MinDegreeSettings
 
@@ -93,15 +91,9 @@ def _run(graph: Graph, role: np.ndarray, seed: int, dense: float, aggressive: bo
     ptr = np.ascontiguousarray(graph.indptr, dtype=np.int64)  # no copy for a Graph (int64 already)
     idx = np.ascontiguousarray(graph.indices, dtype=np.int64)
     tie = _tie_order(n, seed, reverse, itype)
-    if score >= 3:  # a kernel of its own, compiled only where an exact rule runs
-        order, cnt, _ = exact_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow), int(score),
-                                         int(delta), bool(compress))
-    elif score == 0:  # the degree rule: a kernel of its own too (the default uses a fill rule)
-        order, cnt, _ = degree_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow),
-                                          bool(compress))
-    else:
-        order, cnt, _ = approximate_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow),
-                                               int(score), bool(compress))
+    # (the exact rules and the degree rule have kernels of their own, compiled only where they run)
+    order, cnt, _ = quotient_min_degree(n, ptr, idx, role, tie, bool(aggressive), bool(fifo), float(elbow), int(score),
+                                        int(delta), bool(compress))
     if nheavy:
         # postponed rows go last, lightest first (ties by vertex number)
         ids = np.flatnonzero(heavy)

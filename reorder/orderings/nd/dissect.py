@@ -97,9 +97,9 @@ class _Run:
         self._tls = threading.local()
         # below spectral_min the separators need no eigensolver: whole subtrees run compiled
         self.compiled = bool(s.multilevel and s.refine and s.split == "window" and s.compiled)
-        mod = (1 << 31) - 1
         ntr = max(r.trials, r.top_trials, 1)
-        self.bases = np.array([((seed + 7 * t) * 1_000_003) % mod for t in range(ntr)], dtype=np.int64)
+        # trial seeds at index 0: the compiled path mixes in the subproblem's index itself
+        self.bases = np.array([trial_seed(seed, t, 0) for t in range(ntr)], dtype=np.int64)
         self.submit = None  # set by _split: task arguments -> task id
 
     def scratch(self) -> np.ndarray:

@@ -44,7 +44,8 @@ RAMP_START = 60_000
 #: above this many vertices ("huge"): larger leaves, one trial everywhere, the subtree choice does
 #: not climb ("best" excepted)
 HUGE = 300_000
-#: ``normal`` reaches the ``huge`` row at this many vertices, from the ``mid`` row at :data:`LARGE`
+#: ``normal`` reaches the ``huge`` row at this many vertices, from the ``mid`` row at
+#: :data:`RAMP_START` (``fast`` from :data:`LARGE`)
 RAMP_END = 800_000
 #: the subtree choice climbs up to subtrees of this size while minimum degree keeps winning
 CLIMB = 100_000
@@ -52,9 +53,10 @@ CLIMB = 100_000
 #: the ``huge`` rows order the leaves in this many independent parts (subtrees of the separator
 #: tree, fixed by the tree alone), in worker threads
 LEAF_PARTS = 8
-#: ``spectral_min`` that :func:`ramp` reaches at :data:`RAMP_END`, the ``huge`` rows' value: there
-#: the compiled breadth-first path takes over at 20 000 vertices (a ramp ending at 2000 left a step
-#: of about 2× in time per n·log₂n at RAMP_END)
+#: ``spectral_min`` that :func:`ramp` heads for at :data:`RAMP_END`, ten times the ``huge`` rows'
+#: 20 000 (where the compiled breadth-first path takes over); the commit that set it meant 20 000,
+#: but every ramp measurement since (cliffs, quality) was taken with this value. A ramp ending at
+#: 2000 left a step of about 2× in time per n·log₂n at RAMP_END
 RAMP_SPECTRAL_MIN = 200000
 
 #: the pivot rules of the full subtree choice ("name/k": tie order of seed k, see
@@ -131,6 +133,11 @@ class Resolved:
 EIG_FROM, EIG_OFF = 0.3, 0.68
 
 
+def _top_share(f: float) -> float:
+    """Share of the graph above which a subproblem is a top one, at ramp position ``f``: 0.1 → 0.5."""
+    return 0.1 ** (1.0 - f) * 0.5 ** f
+
+
 def _eig_share(f: float) -> float:
     """Least share of the graph a top subproblem needs for the top eigenvectors, at ramp position
     ``f``: the top share ``0.1^(1-f) 0.5^f`` up to :data:`EIG_FROM`, then geometrically up to 1.2
@@ -139,12 +146,10 @@ def _eig_share(f: float) -> float:
     without; the decline of the other settings alone gave 1.3x there), so each level of top
     subproblems (grandchildren, children, root: each about n vertices of work) gives them up at its
     own size."""
-    top = 0.1 ** (1.0 - f) * 0.5 ** f
     if f <= EIG_FROM:
-        return top
+        return _top_share(f)
     t = min((f - EIG_FROM) / (EIG_OFF - EIG_FROM), 1.0)
-    start = 0.1 ** (1.0 - EIG_FROM) * 0.5 ** EIG_FROM
-    return start ** (1.0 - t) * 1.2 ** t
+    return _top_share(EIG_FROM) ** (1.0 - t) * 1.2 ** t
 
 
 #: from this ramp position on nothing is smoothed any more (the root, the last subproblem smoothed,
@@ -159,7 +164,7 @@ def _smooth_refine(f: float) -> int:
     smoothed, and its four refinements on the whole graph were 30% of the time on a 853² grid (9.5 s
     of CPU, 6.6 s without smoothing), all given up at once at the ramp's end: a step of 1.63x in
     t/(n·log₂n) between 853² and 954² grids (one run)."""
-    return int(min(4, max(1, 4 - int((f - 0.75) / 0.08) - (1 if f > 0.75 else 0))))
+    return 4 if f <= 0.75 else max(1, 3 - int((f - 0.75) / 0.08))
 
 
 def ramp(n: int) -> dict | None:
@@ -194,9 +199,6 @@ def ramp(n: int) -> dict | None:
     def geo(x, y):
         return int(round(x ** (1.0 - f) * y ** f))
 
-    def lin(x, y):
-        return int(round(x + (y - x) * f))
-
     leaf = geo(a["leaf_size"], b["leaf_size"])
     keep = 3 if f < 0.24 else 2 if f < 0.40 else 1
     spectral_min = geo(a["spectral_min"], b["spectral_min"])
@@ -206,12 +208,13 @@ def ramp(n: int) -> dict | None:
     # vertices: as the count falls, the extra trial leaves the smaller top subproblems first
     extra_min = int(np.floor((1.0 - (trials - whole)) * n)) + 1
     return dict(a, top_trials=whole, extra_trial_min=extra_min, keep=keep, top_keep=keep,
-                spectral_min=spectral_min, smooth_min=geo(spectral_min, n) if f < SMOOTH_OFF else n + 1, hybrid_single=geo(n, a["leaf_size"]),
+                spectral_min=spectral_min, smooth_min=geo(spectral_min, n) if f < SMOOTH_OFF else n + 1,
+                hybrid_single=geo(n, a["leaf_size"]),
                 leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < EIG_OFF else b["top_eigenvectors"],
                 eig_min=int(np.ceil(n * _eig_share(f))), smooth_refine=_smooth_refine(f),
                 hybrid_max=geo(n, b["hybrid_max"]), hybrid_wide=geo(a["hybrid_wide"], a["leaf_size"]),
                 hybrid_climb=geo(CLIMB, b["hybrid_max"]), trials_min=geo(leaf, n),
-                top_fraction=0.1 ** (1.0 - f) * 0.5 ** f, leaf_parts=LEAF_PARTS)
+                top_fraction=_top_share(f), leaf_parts=LEAF_PARTS)
 
 
 def ramp_fast(n: int) -> dict | None:
@@ -245,8 +248,9 @@ def ramp_fast(n: int) -> dict | None:
 
 
 def resolve(s, n: int) -> Resolved:
-    """Fill the settings ``s`` left at None from :data:`TABLE` (for ``normal`` between
-    :data:`LARGE` and :data:`RAMP_END` vertices, from :func:`ramp`) for a graph of ``n`` vertices.
+    """Fill the settings ``s`` left at None from :data:`TABLE` (between :data:`RAMP_START` and
+    :data:`RAMP_END` vertices for ``normal`` from :func:`ramp`, between :data:`LARGE` and
+    :data:`RAMP_END` for ``fast`` from :func:`ramp_fast`) for a graph of ``n`` vertices.
 
     An explicit ``keep`` or ``smooth`` applies to the top subproblems too.
     """
