@@ -204,3 +204,35 @@ def _is_ancestor(parent, a, k):
 def _first_child_block(parent, j):
     """True if positions after j up to parent[j] all lie in the subtree of parent[j] (postorder-like)."""
     return all(_is_ancestor(parent, parent[j], k) for k in range(j + 1, parent[j]))
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_remembered_tree_after_a_postorder_matches_numpy_dense_cholesky(seed):
+    # etree_postorder remembers the tree of the order it returns, and symbolic_factor of that order
+    # uses it: the counts and the tree must still be those of NumPy's dense Cholesky (parent(j) =
+    # min{i > j : L[i, j] != 0}, Liu 1990), and another order or another graph must not reuse it
+    import gc
+
+    from reorder import analysis
+    from reorder.analysis import etree_postorder
+
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(8, 60))
+    A = m_matrix(random_pattern(n, float(rng.uniform(0.03, 0.2)), seed))
+    G = from_matrix(A)
+    q = etree_postorder(G, rng.permutation(n))
+    assert analysis._recall(G, q) is not None  # the memo is what this test exercises
+    sym = symbolic_factor(G, q)
+    L = np.abs(np.linalg.cholesky(A.toarray()[np.ix_(q, q)])) > 1e-12
+    np.testing.assert_array_equal(sym.colcounts, L.sum(axis=0))
+    parent = [next((i for i in range(j + 1, n) if L[i, j]), -1) for j in range(n)]
+    np.testing.assert_array_equal(sym.parent, parent)
+    assert symbolic_factor(G, q) is sym  # asked again: the same result
+    other = q[::-1].copy()
+    L2 = np.abs(np.linalg.cholesky(A.toarray()[np.ix_(other, other)])) > 1e-12
+    np.testing.assert_array_equal(symbolic_factor(G, other).colcounts, L2.sum(axis=0))
+    G2 = from_matrix(A)  # an equal graph, but not the same object: no reuse
+    assert analysis._recall(G2, other) is None
+    del G, sym
+    gc.collect()
+    assert not analysis._MEMO  # the entry went with its graph

@@ -100,3 +100,20 @@ def test_dissection_candidate_skips_the_subtree_choice_only_on_thick_factors():
     _, info2 = escalate(from_matrix(grid2d(60)), rates=DEFAULT_RATES, factorizations=1e6)
     assert info2["dense_index"] < THICK_OPTIONS_INDEX
     assert "nnz_factor" in info2["candidates"]["nd-fast"] and "settings" not in info2["candidates"]["nd-fast"]
+
+
+def test_a_rung_that_cannot_undercut_the_best_does_not_run():
+    # a rung's saving was measured against its reference (the start for the other pivot rules of
+    # minimum degree, RCM and SciPy's minimum degree): once nested dissection has beaten the start
+    # by more than those savings on a 3-D grid (George 1973: ops ~ n^2 against minimum degree's
+    # larger growth, from memory), they are expected to save nothing and do not run, however cheap
+    g = from_matrix(grid3d(14))
+    _, info = escalate(g, rates=DEFAULT_RATES, factorizations=1e4, time_scale=1e-9)
+    cands = info["candidates"]
+    assert info["ran"][:2] == [START.label, "nd-fast"]
+    start, ndf = cands[START.label]["predicted_factor_seconds"], cands["nd-fast"]["predicted_factor_seconds"]
+    for r in LADDER:
+        if not r.after and r.label != "nd-fast":
+            assert ndf < (1.0 - r.saving) * start  # the premise: nd-fast undercut what the rung may reach
+            assert r.label not in info["ran"] and "skipped" in cands[r.label], r.label
+    assert "nd" in info["ran"]  # its reference is nd-fast: still expected to save

@@ -68,3 +68,38 @@ def test_subgraph_matches_networkx():
 def test_from_edges_ignores_loops_and_duplicates():
     g = from_edges(4, [0, 0, 1, 2, 3], [1, 1, 0, 2, 0])
     assert g.nedges == 2
+
+
+def test_every_input_format_gives_the_same_graph_as_dense_numpy():
+    # reference: NumPy on the dense structure, (S | S.T) without the diagonal. CSR/CSC in canonical
+    # form take the copy-free path, COO, unsorted CSR and sparse arrays the general one; explicit
+    # zeros are structural entries either way
+    rng = np.random.default_rng(7)
+    for sym in (False, True):
+        n = 60
+        rows, cols = rng.integers(0, n, 400), rng.integers(0, n, 400)
+        if sym:
+            rows, cols = np.concatenate((rows, cols)), np.concatenate((cols, rows))
+        vals = rng.choice([0.0, 1.0, -2.0], rows.size)
+        coo = sp.coo_matrix((vals, (rows, cols)), shape=(n, n))
+        S = np.zeros((n, n), dtype=bool)
+        S[rows, cols] = True
+        ref = (S | S.T) & ~np.eye(n, dtype=bool)
+        csr = sp.csr_matrix(coo)  # duplicates summed: canonical
+        unsorted = sp.csr_matrix((csr.data[::-1].copy(), csr.indices.copy(), csr.indptr.copy()), shape=(n, n))
+        for i in range(n):  # reverse each row's entries: unsorted indices
+            a, b = unsorted.indptr[i], unsorted.indptr[i + 1]
+            unsorted.indices[a:b] = csr.indices[a:b][::-1]
+        unsorted.has_sorted_indices = False
+        for form in (csr, sp.csc_matrix(coo), coo, unsorted, sp.csr_array(csr), sp.csc_array(coo)):
+            g = from_matrix(form)
+            assert np.array_equal(g.to_csr().toarray() != 0, ref), type(form)
+            assert g.info["pattern_symmetric"] == bool(np.array_equal(S & ~np.eye(n, dtype=bool),
+                                                                      (S & ~np.eye(n, dtype=bool)).T))
+            for v in range(n):
+                nb = g.neighbors(v)
+                assert np.all(np.diff(nb) > 0)
+            assert g.indptr.dtype == np.int64 and g.indices.dtype == np.int64
+    # the graph never shares memory with the matrix
+    g = from_matrix(csr)
+    assert not np.shares_memory(g.indices, csr.indices) and not np.shares_memory(g.indptr, csr.indptr)

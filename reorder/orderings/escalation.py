@@ -5,8 +5,9 @@ What a user pays is the ordering time plus ``factorizations`` times the factoriz
 its factorization with :func:`reorder.cost.predict_seconds`, and then considers a ladder of costlier
 candidates. Each rung has a predicted ordering time (a multiple of the measured time of the cheap
 start or of the rung it builds on, which gauge this machine and this graph, or a size model) and an
-expected saving (a fraction, measured on the bundled meshes and grids, of the best predicted
-factorization time so far, times the number of factorizations). At each step the rung of largest
+expected factorization time: a fraction, measured on the bundled meshes and grids, below that of its
+reference (the rung it builds on, else the cheap start). Its expected saving is what that undercuts
+the best predicted factorization time so far, times the number of factorizations. At each step the rung of largest
 expected net gain (saving minus cost) runs, as long as that gain is positive; a rung that builds on
 another runs only after it. Picking by net gain rather than by cost keeps cheap rungs of small
 expected gain from running before a costlier one that makes them pointless (on a 3-D grid
@@ -48,7 +49,8 @@ class Rung:
         rung ``after``, when given), or with ``per_size`` a multiple of the size model of nested
         dissection (:func:`nd_seconds`).
     saving : float
-        Expected fraction of the best predicted factorization time so far that this candidate saves.
+        Expected fraction of its reference's predicted factorization time (the rung ``after``, else
+        the cheap start) that this candidate saves.
     max_n : int
         Not tried on larger graphs (0: no limit).
     per_size : bool
@@ -255,6 +257,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
     index = dense_index(start_counts)
     best = (key, START.label, perm)
     seconds = {START.label: t_start}
+    predicted = {START.label: key[0]}  # predicted factorization seconds of each rung that ran
     ran = [START.label]
     stopped = "every candidate ran"
     pending = []
@@ -274,7 +277,13 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
             cost = rung.cost * seconds[rung.after or START.label]
             if rung.options == (("effort", "normal"),):
                 cost *= _polish_share(n)
-        return cost * time_scale, saving_fraction(rung, index) * best[0][0] * k
+        # the saving fraction was measured against the rung's reference (the one it builds on, else
+        # the start): the candidate is expected to reach (1 - fraction) of the reference's
+        # predicted time, and saves only what that undercuts of the best so far (after nd-fast
+        # won on a 3-D grid, another pivot rule of minimum degree is expected to save nothing)
+        ref = predicted[rung.after or START.label]
+        expected = (1.0 - saving_fraction(rung, index)) * ref
+        return cost * time_scale, max(best[0][0] - expected, 0.0) * k
 
     while pending:
         ready = [r for r in pending if not r.after or r.after in seconds]
@@ -282,7 +291,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
             break
         priced = [(r, *price(r)) for r in ready]
         rung, cost, saving = max(priced, key=lambda x: x[2] - x[1])  # ties: the earlier rung
-        if saving <= cost:
+        if saving <= cost and cost > 0:  # (a free candidate runs: time_scale=0 runs them all)
             for r, c, sv in priced:
                 results[r.label] = {"skipped": "expected saving below predicted ordering time",
                                     "predicted_order_seconds": round(float(c), 4),
@@ -298,6 +307,7 @@ def escalate(graph: Graph, *, factorizations: float = 1.0, seed: int = 0, rates=
             results[rung.label] = {"error": f"{type(exc).__name__}: {exc}"}
             continue
         seconds[rung.label] = sec
+        predicted[rung.label] = key[0]
         ran.append(rung.label)
         if key < best[0]:
             best = (key, rung.label, perm)
