@@ -87,7 +87,9 @@ START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", Tru
 
 #: the ladder (ties of expected net gain go to the earlier rung). Costs: the mean-fill pivot rule (with initial supervariables), RCM
 #: and every pivot rule of minimum degree as multiples of the cheap start's time (measured about
-#: 1.1x, 0.2-0.5x and 8-15x; the mean-fill rule left 0.6% more nnz(L) than the start in geometric
+#: 1.1x, 0.2-0.5x and 10-29x (geometric mean 18x over the nine bundled meshes of at least 10⁴ rows:
+#: twelve rules, 22 runs where vertices merge initially, the exact rules slower on 3-D meshes; 12x
+#: had auto with 100 factorizations spend 0.5 s on an elasticity mesh to save 0.1 s); the mean-fill rule left 0.6% more nnz(L) than the start in geometric
 #: mean over the suite but 8.5% less on the 24³ grid and 7% less on an elasticity mesh); ``nd-fast``
 #: by the size model :func:`nd_seconds`; full polish as a multiple of the measured ``nd-fast`` seconds
 #: (6.2x on the 27-point 22³ grid, 7.7x on the 7-point 40³ grid; falling to 1.8x at 8·10⁵ vertices,
@@ -104,7 +106,7 @@ LADDER = (
     Rung("rcm", "rcm", (), cost=0.5, saving=0.02),
     Rung("nd-fast", "nd", (("effort", "fast"),), cost=1.0, saving=0.45, per_size=True, dense=True,
          thick=(("hybrid_max", 0),)),
-    Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=12.0, saving=0.04),
+    Rung("mindegree/all-rules", "mindegree", (("score", "auto"),), cost=18.0, saving=0.04),
     Rung("superlu-md", "superlu-md", (), cost=0.0, saving=0.03, max_n=50_000),
     Rung("nd", "nd", (("effort", "normal"),), cost=ND_POLISH, saving=0.10, after="nd-fast"),
     Rung("nd-best", "nd", (("effort", "best"),), cost=3.0, saving=0.01, after="nd"),
