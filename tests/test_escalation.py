@@ -117,3 +117,21 @@ def test_a_rung_that_cannot_undercut_the_best_does_not_run():
             assert ndf < (1.0 - r.saving) * start  # the premise: nd-fast undercut what the rung may reach
             assert r.label not in info["ran"] and "skipped" in cands[r.label], r.label
     assert "nd" in info["ran"]  # its reference is nd-fast: still expected to save
+
+
+def test_quick_settings_only_for_few_factorizations_on_thick_factors():
+    # the quick settings trade a few percent of operations for ordering time: worth it for one
+    # factorization of a 3-D problem (dense factor, George 1973 growth: from memory), not for many,
+    # and never on a 2-D one. The count recorded is still SciPy SuperLU's.
+    from reorder.orderings.escalation import QUICK_MAX_FACTORIZATIONS
+
+    A = m_matrix(grid3d(14))
+    g = from_matrix(A)
+    perm, one = escalate(g, rates=DEFAULT_RATES, factorizations=1, time_scale=1e-9)
+    assert one["candidates"]["nd-fast"]["settings"] == {"hybrid_max": 0, "spectral_min": 8000}
+    if one["chosen"] == "nd-fast":
+        assert one["candidates"]["nd-fast"]["nnz_factor"] == superlu_nnz_l(sp.csc_matrix(A[perm][:, perm]))
+    _, many = escalate(g, rates=DEFAULT_RATES, factorizations=QUICK_MAX_FACTORIZATIONS + 1, time_scale=1e-9)
+    assert many["candidates"]["nd-fast"]["settings"] == {"hybrid_max": 0}
+    _, flat = escalate(from_matrix(grid2d(60)), rates=DEFAULT_RATES, factorizations=1, time_scale=1e-9)
+    assert "settings" not in flat["candidates"]["nd-fast"]
