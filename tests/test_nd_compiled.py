@@ -203,3 +203,48 @@ def test_normal_ramp_gives_up_effort_gradually():
         assert all(y <= x for x, y in zip(ta, tb)) and all(y <= x for x, y in zip(ea, eb))
         assert max(x - y for x, y in zip(ta, tb)) <= 1
         assert sum(x != y for x, y in zip(ea, eb)) <= 1
+
+
+def test_multisection_is_given_up_level_by_level():
+    # no cliff (issue 16): multisection stops for the smallest subtrees first, and between sizes
+    # 1.25x apart its floor grows by a bounded factor (about one level of a dissection tree, whose
+    # subtree sizes halve level by level: textbook nested dissection, George 1973), from every subtree
+    # at MS_START to none at MS_END; the resolved settings of "normal" follow it and an explicit
+    # setting overrides it
+    from reorder.orderings.nd.presets import MS_END, MS_START, multisection_floor, resolve
+    from reorder.orderings.records import NdSettings as NDSettings
+
+    assert multisection_floor(MS_START, 50) == 0 and multisection_floor(MS_END, 50) == 0
+    sizes = [int(MS_START * 1.25 ** i) + 1 for i in range(40) if MS_START * 1.25 ** i + 1 < MS_END]
+    floors = [multisection_floor(n, 50) for n in sizes]
+    assert all(b > a for a, b in zip(floors, floors[1:]))
+    assert all(b / a <= 2 ** 2.5 for a, b in zip(floors, floors[1:]))  # at most 2.5 levels a step
+    assert floors[-1] > 0.7 * sizes[-1]  # the root last
+    n = sizes[len(sizes) // 2]
+    r = resolve(NDSettings(), n)
+    assert r.multisection and r.multisection_min == multisection_floor(n, r.leaf_size)
+    assert resolve(NDSettings(multisection=True), n).multisection_min == 0
+    assert not resolve(NDSettings(multisection=False), n).multisection
+    assert resolve(NDSettings(effort="fast"), n).multisection_min == 0 and not resolve(NDSettings(effort="fast"), n).multisection
+
+
+def test_subtree_choice_multisects_no_subtree_below_the_floor():
+    # the floor is a hard limit: with it above every subtree no subtree is multisected (while without
+    # it some are, on this grid: Ashcraft & Liu 1998's multisection wins there), and the result is
+    # still a valid dissection order (SciPy connected components through the tree's validation)
+    from reorder.orderings.nd.subtree import subtree_choice
+    from reorder.orderings.nd.tree import SeparatorTree
+
+    G = from_matrix(grid2d(31))
+    base = order(G, "nd", hybrid_max=0)
+    nodes = base.info["separator_tree"]["nodes"]
+    out = {}
+    for floor in (0, G.n + 1):
+        perm = base.perm.copy()
+        new_nodes, stats = subtree_choice(G, perm, [dict(nd, children=list(nd["children"])) for nd in nodes],
+                                          hybrid_max=G.n, scores=("degree",), key="nnz", seed=0,
+                                          multisection=True, multisection_min=floor)
+        tree = dict(base.info["separator_tree"], nodes=new_nodes)
+        assert SeparatorTree.from_json(tree).validate(perm, G)
+        out[floor] = stats["subtrees_multisected"]
+    assert out[0] > 0 and out[G.n + 1] == 0

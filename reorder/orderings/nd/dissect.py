@@ -345,6 +345,7 @@ def dissect(graph: Graph, s, r: Resolved, *, seed: int):
                                        wide=r.hybrid_wide, wide_scores=tuple(s.hybrid_wide_scores),
                                        single=r.hybrid_single,
                                        key=s.hybrid_key, seed=seed, multisection=r.multisection,
+                                       multisection_min=r.multisection_min,
                                        climb=r.hybrid_climb, gate=s.hybrid_gate, threads=threads)
     tree = {"format": FORMAT, "version": VERSION, "n": int(graph.n), "root": 0,
             "leaf_size": r.leaf_size, "balance": float(s.balance), "nodes": nodes}

@@ -7,7 +7,8 @@ texts) points here; the thresholds are named once, below.
 
 Reading the table: ``normal`` polishes graphs up to :data:`RAMP_START` vertices fully (six trials on
 the top subproblems carrying three smoothed candidates, three top eigenvectors, every pivot rule and
-multisection in the subtree choice up to :data:`MID`) and goes over to the cheap ``huge`` settings
+multisection in the subtree choice, given up level by level from the smallest subtrees between
+:data:`MS_START` and :data:`MS_END`, see :func:`multisection_floor`) and goes over to the cheap ``huge`` settings
 gradually between :data:`RAMP_START` and :data:`RAMP_END` vertices (:func:`ramp`: no step in time per
 n·log₂n where a preset would switch at once; its ``large`` row is not used); ``fast``
 uses the cheaper settings at every size (one trial per subproblem, no smoothing, the subtree choice
@@ -29,6 +30,7 @@ import numpy as np
 from ..records import EFFORTS
 
 __all__ = ["EFFORTS", "MID", "LARGE", "RAMP_START", "HUGE", "RAMP_END", "CLIMB", "LEAF_PARTS", "ALL_RULES", "TABLE", "size_class", "ramp", "ramp_fast",
+           "multisection_floor", "MS_START", "MS_END",
            "Resolved", "resolve"]
 
 
@@ -53,6 +55,11 @@ CLIMB = 100_000
 #: the ``huge`` rows order the leaves in this many independent parts (subtrees of the separator
 #: tree, fixed by the tree alone), in worker threads
 LEAF_PARTS = 8
+#: ``normal`` gives up multisection gradually between these sizes (:func:`multisection_floor`).
+#: Multisection is about a third of ``normal``'s time on 3-D grids (29³: 8.6 -> 5.8 s CPU without
+#: it), most of it in the many small subtrees; stopping it at once at MID made t/(n·log₂n) fall 1.42x
+#: (CPU) / 1.60x (wall) between the 31³ and 34³ grids
+MS_START, MS_END = 20_000, 4 * MID
 #: ``spectral_min`` that :func:`ramp` heads for at :data:`RAMP_END`, ten times the ``huge`` rows'
 #: 20 000 (where the compiled breadth-first path takes over); the commit that set it meant 20 000,
 #: but every ramp measurement since (cliffs, quality) was taken with this value. A ramp ending at
@@ -125,6 +132,7 @@ class Resolved:
     eig_min: int = 0
     extra_trial_min: int = 0
     smooth_refine: int = 4
+    multisection_min: int = 0
 
 
 #: the ``normal`` ramp's top eigenvectors reach ever fewer top subproblems from ``f`` =
@@ -247,6 +255,17 @@ def ramp_fast(n: int) -> dict | None:
                 top_fraction=0.1 ** (1.0 - max(0.0, 2.0 * f - 1.0)), leaf_parts=LEAF_PARTS)
 
 
+def multisection_floor(n: int, leaf_size: int) -> int:
+    """Smallest subtree (vertices) that ``normal`` tries multisection on, for ``MS_START < n <
+    MS_END`` vertices: ``leaf_size^(1-f) · n^f`` at ``f = log(n / MS_START) / log(MS_END /
+    MS_START)``, so that it leaves the tree's levels one by one, bottom first (the small subtrees
+    are many and cost most); 0 (every subtree) outside that range."""
+    if not MS_START < n < MS_END:
+        return 0
+    f = float(np.log(n / MS_START) / np.log(MS_END / MS_START))
+    return int(round(max(leaf_size, 2) ** (1.0 - f) * n ** f))
+
+
 def resolve(s, n: int) -> Resolved:
     """Fill the settings ``s`` left at None from :data:`TABLE` (between :data:`RAMP_START` and
     :data:`RAMP_END` vertices for ``normal`` from :func:`ramp`, between :data:`LARGE` and
@@ -268,13 +287,19 @@ def resolve(s, n: int) -> Resolved:
     top_smooth = row["top_smooth"] if s.smooth is None else int(s.smooth)
     top_eig = s.top_eigenvectors if s.top_eigenvectors is not None else max(int(s.eigenvectors),
                                                                              row["top_eigenvectors"])
+    leaf_size = max(int(pick("leaf_size")), 2)
+    multisection = bool(pick("multisection"))
+    ms_min = 0
+    if s.multisection is None and s.effort == "normal":
+        ms_min = multisection_floor(n, leaf_size)
+        multisection = multisection or ms_min > 0
     return Resolved(
-        leaf_size=max(int(pick("leaf_size")), 2), trials=int(pick("trials")), top_trials=int(pick("top_trials")),
+        leaf_size=leaf_size, trials=int(pick("trials")), top_trials=int(pick("top_trials")),
         keep=(int(keep), int(top_keep)), smooth=(int(smooth), int(top_smooth)),
         eigenvectors=(int(s.eigenvectors), int(top_eig)), spectral_min=int(pick("spectral_min")),
         hybrid_max=int(whole(pick("hybrid_max"))), hybrid_wide=int(whole(pick("hybrid_wide"))),
         hybrid_scores=tuple(pick("hybrid_scores")), hybrid_climb=int(pick("hybrid_climb")),
-        multisection=bool(pick("multisection")), restarts=int(pick("restarts")),
+        multisection=multisection, multisection_min=ms_min, restarts=int(pick("restarts")),
         trials_min=max(int(s.trials_min), int(row.get("trials_min", 0))),
         top_fraction=max(float(s.top_fraction), float(row.get("top_fraction", 0.0))),
         smooth_min=int(row.get("smooth_min", 0)), hybrid_single=row.get("hybrid_single"),

@@ -24,7 +24,7 @@ EXACT_MAX_FILL = 100
 
 def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_max: int, scores, key: str,
                     seed: int, wide: int | None = None, wide_scores=("degree",),
-                    multisection: bool = True, climb: int = 0,
+                    multisection: bool = True, multisection_min: int = 0, climb: int = 0,
                     gate: float | None = None, threads: int = 1,
                     single: int | None = None) -> tuple[list[dict], dict]:
     """Bottom-up choice between the nested-dissection order of each small subtree, minimum degree,
@@ -35,7 +35,7 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     range and their halo (neighbours outside the range, all in later separators) form a small graph;
     the current order of the range (nested dissection below it, already improved) competes with
     (a) the halo minimum degree of the whole range and (b) with ``multisection``, for separator
-    nodes, the multisection order: the leaves of the subtree first in their current order, then all
+    nodes (of at least ``multisection_min`` vertices), the multisection order: the leaves of the subtree first in their current order, then all
     separator vertices of the subtree together (the multisector) in the minimum-degree order of the
     graph left once the leaves are eliminated, each under every pivot rule in ``scores`` (and, for a
     multisector without halo, e.g. the root's, with several rules, also :func:`minimum_degree`'s
@@ -72,6 +72,7 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     st = _State(graph=graph, perm=perm, nodes=nodes, hybrid_max=hybrid_max, scores=scores, seed=seed, wide=wide,
                 wide_scores=wide_scores, single=graph.n if single is None else int(single),
                 multisection=multisection, climb=climb, gate=gate, power=power,
+                multisection_min=int(multisection_min),
                 pre_c=np.concatenate(([0.0], np.cumsum(cc ** power))), pre_z=np.concatenate(([0.0], np.cumsum(cc))))
     # disjoint subtrees (consecutive id ranges in preorder) in worker threads, then the nodes above
     # them; a node's choice reads and writes only its own subtree, so the result is the same
@@ -168,7 +169,8 @@ def _pass(st: _State, ids) -> tuple[bool, dict]:
         best, nnz_best, best_loc, best_kind, W = _compete(
             graph, perm[s:t], nd, leaves[nid], float(cost_c[nid]), float(cost_z[nid]),
             rules=rules, gate=st.gate if m <= st.wide else None,
-            multisection=st.multisection, power=st.power, seed=st.seed, mark=mark, local=local)
+            multisection=st.multisection and m >= st.multisection_min, power=st.power, seed=st.seed, mark=mark,
+            local=local)
         if best_loc is None:
             continue
         cost_c[nid], cost_z[nid] = best, nnz_best
