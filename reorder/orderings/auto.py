@@ -72,7 +72,9 @@ def auto(graph: Graph, s: AutoSettings, seed: int = 0):
     measured once and cached), and then tries costlier candidates one after another (RCM,
     ``nd --effort fast``, every pivot rule of minimum degree, SciPy SuperLU's minimum degree,
     ``nd``, ``nd --effort best``) while the saving each is expected to bring, counted
-    ``factorizations`` times, exceeds the ordering time it is predicted to cost. It keeps the
+    ``factorizations`` times, exceeds the ordering time it is predicted to cost (a candidate is
+    expected to factor a measured fraction faster than the order it refines; it saves what that
+    undercuts the best order so far). It keeps the
     order of least predicted factorization time, so escalating never makes the result worse than
     the cheap start by that measure.
 
