@@ -128,7 +128,7 @@ def test_quick_settings_only_for_few_factorizations_on_thick_factors():
     A = m_matrix(grid3d(14))
     g = from_matrix(A)
     perm, one = escalate(g, rates=DEFAULT_RATES, factorizations=1, time_scale=1e-9)
-    assert one["candidates"]["nd-fast"]["settings"] == {"hybrid_max": 0, "spectral_min": 8000}
+    assert one["candidates"]["nd-fast"]["settings"] == {"hybrid_max": 0, "spectral_min": 8000, "leaf_size": 400}
     if one["chosen"] == "nd-fast":
         assert one["candidates"]["nd-fast"]["nnz_factor"] == superlu_nnz_l(sp.csc_matrix(A[perm][:, perm]))
     _, many = escalate(g, rates=DEFAULT_RATES, factorizations=QUICK_MAX_FACTORIZATIONS + 1, time_scale=1e-9)
