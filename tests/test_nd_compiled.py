@@ -225,7 +225,8 @@ def test_multisection_is_given_up_level_by_level():
     assert r.multisection and r.multisection_min == multisection_floor(n, r.leaf_size)
     assert resolve(NDSettings(multisection=True), n).multisection_min == 0
     assert not resolve(NDSettings(multisection=False), n).multisection
-    assert resolve(NDSettings(effort="fast"), n).multisection_min == 0 and not resolve(NDSettings(effort="fast"), n).multisection
+    fast = resolve(NDSettings(effort="fast"), n)
+    assert fast.multisection_min == 0 and not fast.multisection
 
 
 def test_subtree_choice_multisects_no_subtree_below_the_floor():

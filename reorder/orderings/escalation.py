@@ -90,20 +90,22 @@ class Rung:
 #: plain degree rule reached 1.25x (an elasticity mesh) for about 25% less time (measured)
 START = Rung("mindegree/fill", "mindegree", (("score", "fill"), ("compress", True)))
 
-#: the ladder (ties of expected net gain go to the earlier rung). Costs: the mean-fill pivot rule (with initial supervariables), RCM
-#: and every pivot rule of minimum degree as multiples of the cheap start's time (measured about
-#: 1.1x, 0.2-0.5x and 10-29x (geometric mean 18x over the nine bundled meshes of at least 10⁴ rows:
-#: twelve rules, 22 runs where vertices merge initially, the exact rules slower on 3-D meshes; 12x
-#: had auto with 100 factorizations spend 0.5 s on an elasticity mesh to save 0.1 s); the mean-fill rule left 0.6% more nnz(L) than the start in geometric
-#: mean over the suite but 8.5% less on the 24³ grid and 7% less on an elasticity mesh); ``nd-fast``
-#: by the size model :func:`nd_seconds`; full polish as a multiple of the measured ``nd-fast`` seconds
-#: (6.2x on the 27-point 22³ grid, 7.7x on the 7-point 40³ grid; falling to 1.8x at 8·10⁵ vertices,
-#: where ``normal`` uses its cheapest settings), three restarts 3x the measured polish. Savings are the measured fraction of SuperLU time a candidate saved over the best cheaper
-#: one on the bundled meshes and 3-D grids (nd-fast over one-rule minimum degree: 0.1-0.67, mean
-#: 0.45, on 3-D meshes; scaled down on thin factors by :func:`saving_fraction`; nd over nd-fast
-#: about 0.1; three restarts about 0.01).
-#: ``nd`` over ``nd-fast`` (time) up to the presets' ``RAMP_START``, and from ``RAMP_END`` on
-#: (see :func:`_polish_share`)
+#: the ladder (ties of expected net gain go to the earlier rung). Costs: the mean-fill pivot rule
+#: (with initial supervariables), RCM and every pivot rule of minimum degree as multiples of the
+#: cheap start's time (measured about 1.1x, 0.2-0.5x and 10-29x; the last a geometric mean of 18x
+#: over the nine bundled meshes of at least 10⁴ rows: twelve rules, 22 runs where vertices merge
+#: initially, the exact rules slower on 3-D meshes; 12x had auto with 100 factorizations spend 0.5 s
+#: on an elasticity mesh to save 0.1 s); ``nd-fast`` by the size model :func:`nd_seconds`; full
+#: polish as a multiple of the measured ``nd-fast`` seconds (6.2x on the 27-point 22³ grid, 7.7x on
+#: the 7-point 40³ grid; falling to 1.8x at 8·10⁵ vertices, where ``normal`` uses its cheapest
+#: settings), three restarts 3x the measured polish. Savings are the measured fraction of SuperLU
+#: time a candidate saved over its reference (the rung it builds on, else the start) on the bundled
+#: meshes and 3-D grids: nd-fast over one-rule minimum degree 0.1-0.67, mean 0.45, on 3-D meshes
+#: (scaled down on thin factors by :func:`saving_fraction`); nd over nd-fast about 0.1; three
+#: restarts about 0.01; the mean-fill rule 0.06 (it left 0.6% more nnz(L) than the start in
+#: geometric mean over the suite but 8.5% less on the 24³ grid and 7% less on an elasticity mesh).
+#: ``ND_POLISH``: ``nd`` over ``nd-fast`` (time) up to the presets' ``RAMP_START``;
+#: ``POLISH_AT_RAMP_END``: from ``RAMP_END`` on (see :func:`_polish_share`)
 ND_POLISH, POLISH_AT_RAMP_END = 7.0, 1.8
 
 LADDER = (
