@@ -35,8 +35,8 @@ def subtree_choice(graph: Graph, perm: np.ndarray, nodes: list[dict], *, hybrid_
     range and their halo (neighbours outside the range, all in later separators) form a small graph;
     the current order of the range (nested dissection below it, already improved) competes with
     (a) the halo minimum degree of the whole range and (b) with ``multisection``, for separator
-    nodes (of at least ``multisection_min`` vertices), the multisection order: the leaves of the subtree first in their current order, then all
-    separator vertices of the subtree together (the multisector) in the minimum-degree order of the
+    nodes (of at least ``multisection_min`` vertices), the multisection order: the leaves of the
+    subtree first in their current order, then all separator vertices of the subtree together (the multisector) in the minimum-degree order of the
     graph left once the leaves are eliminated, each under every pivot rule in ``scores`` (and, for a
     multisector without halo, e.g. the root's, with several rules, also :func:`minimum_degree`'s
     ``"auto"``). The least cost of the range's own columns (``key``: ``"nnz"`` = Σ c_j, ``"ops"`` =
