@@ -169,3 +169,20 @@ def test_multisection_flag(capsys, plate, tmp_path):
     tree = json.loads(t.read_text())
     assert not any(nd.get("multisector") for nd in tree["nodes"])
     assert SeparatorTree.from_json(tree).validate(read_permutation(p, A.shape[0]), from_matrix(A))
+
+
+def test_command_process_exits_early_with_its_output_whole(tmp_path):
+    # The `reorder` process skips the interpreter's teardown (issue 16, later-run start-up); what it
+    # printed to a pipe and the file it wrote must still be complete, and the exit code kept.
+    # Reference: the same command run in this process through main(argv), which returns normally.
+    scipy.io.mmwrite(str(tmp_path / "plate.mtx"), sp.coo_matrix(grid2d(12)))
+    r = subprocess.run([sys.executable, "-m", "reorder.cli", "order", "plate.mtx", "-o", "-", "--json"],
+                       capture_output=True, text=True, cwd=tmp_path, timeout=300)
+    assert r.returncode == 0, r.stderr
+    # the permutation goes to stdout, the JSON record to stderr (stdout is taken)
+    perm = [int(x) for x in r.stdout.splitlines() if x and not x.startswith("#")]
+    assert sorted(perm) == list(range(144)) and r.stdout.endswith("\n")
+    assert json.loads(r.stderr)["n"] == 144
+    bad = subprocess.run([sys.executable, "-m", "reorder.cli", "order", "missing.mtx", "-o", "p.txt"],
+                         capture_output=True, text=True, cwd=tmp_path, timeout=300)
+    assert bad.returncode == 2 and bad.stderr.count("\n") == 1, bad.stderr

@@ -323,5 +323,32 @@ def main(argv: list[str] | None = None) -> int:
         else:
             raise
     if argv is None:
-        sys.exit(code)
+        _leave(code)
     return code
+
+
+def _leave(code: int) -> None:
+    """End the ``reorder`` process with ``code``, skipping the interpreter's teardown when nothing
+    still runs.
+
+    Every output is complete and closed (written atomically) by now; what the normal exit would add
+    is the finalisation of some 800 imported modules and numba's compiled-code objects, about 0.2 s
+    of a 1 s later run (measured on a 10⁴-row mesh). Where a worker process or a non-daemon
+    thread is still alive (never in normal operation), the ordinary exit runs instead, so that
+    nothing is cut short.
+    """
+    import threading
+
+    try:
+        sys.stdout.flush()
+    except (OSError, ValueError):  # a closed or broken pipe: nothing left to say there
+        _quiet_stdout()
+    with contextlib.suppress(OSError, ValueError):
+        sys.stderr.flush()
+    mp = sys.modules.get("multiprocessing")
+    busy = mp is not None and bool(mp.active_children())
+    busy = busy or any(t.is_alive() and not t.daemon for t in threading.enumerate()
+                       if t is not threading.main_thread())
+    if busy:
+        sys.exit(code)
+    os._exit(code)
