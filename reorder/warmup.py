@@ -153,20 +153,21 @@ def _compile_mindegree_loops(degree: bool = False, exact: bool = False) -> None:
     """The elimination loop of minimum degree under the fill rules (with ``degree`` also the
     degree-bucket loop, with ``exact`` the exact-rule loop), alone: the longest compilations, run in
     the helper process of :func:`ensure_compiled` while this one compiles the rest."""
+    import numpy as np
+
     from .kernels import mindegree as md
 
     n, role, tie, a = _mindegree_arrays(2)
-    ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, _, cnt, st, _ = a
-    md._eliminate(n, role, True, False, 2, st, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast, pivots, heap,
-                  hpos, hval, hseq, tie)
+    ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, _, hseq, _, cnt, st, _ = a
+    hk = np.empty((n, 2), dtype=np.float64)
+    md._eliminate(n, role, True, False, 2, n + 1, st, cnt, ws, V, flag, hhead, mnext, mlast, xfirst, xlast, pivots,
+                  heap, hpos, hk, hseq, bhead, tie)
     # then the entry point around it, with the argument types orderings.mindegree passes: its
     # set-up and finishing kernels are cached by the main process by now (it compiles them first),
     # so only the entry point itself compiles here, and the main process merely loads it
-    import numpy as np
-
     g = _grid(_SIZES[0])
     md.approximate_min_degree(g.n, g.indptr.astype(np.int64), g.indices.astype(np.int64), role, tie, True, False,
-                              0.2, 2, True)
+                              0.2, 2, True, g.n + 1)
     if degree:
         from .kernels import mindegree_degree as mb
 

@@ -330,6 +330,36 @@ def test_workspace_growth_resumes_the_same_elimination():
         assert tight[1][5] > nnz + 1  # grew beyond its first size
 
 
+def test_fill_rule_buckets_pick_the_same_pivots_as_a_heap():
+    # The fill rules keep whole-number keys of single variables in buckets and the others in a
+    # heap; the pivot is the unique least (key, -sequence number), so the order must not depend on
+    # where a key is kept. Reference: the same loop with every key in its heap (buckets=False), a
+    # textbook d-ary heap (D. B. Johnson, "Priority queues with update and finding minimum spanning
+    # trees", Inf. Process. Lett. 4 (1975) 53-57). Graphs with twins (fractional keys from the
+    # start), halo and left-out vertices, both tie orders and a workspace that must grow.
+    import pyamg
+
+    from reorder.kernels.mindegree import quotient_min_degree
+
+    rng = np.random.default_rng(5)
+    graphs = [from_matrix(pyamg.gallery.poisson((23, 17))),
+              from_matrix(sp.kron(pyamg.gallery.poisson((6, 5, 4)), np.ones((2, 2))).tocsr()),
+              graph_of(nx.gnm_random_graph(300, 1200, seed=3)),
+              graph_of(nx.barabasi_albert_graph(400, 3, seed=4))]
+    runs = 0
+    for G in graphs:
+        for score, compress, fifo, elbow in ((1, False, False, 0.2), (2, True, True, -1.0), (2, False, False, 0.0),
+                                             (1, True, True, 0.2)):
+            role = rng.choice(np.array([1, 1, 1, 1, 1, 0, -1], dtype=np.int8), G.n) if runs % 2 else \
+                np.ones(G.n, dtype=np.int8)
+            tie = rng.permutation(G.n).astype(np.int32)
+            out = [quotient_min_degree(G.n, G.indptr, G.indices, role, tie, True, fifo, elbow, score, 0, compress,
+                                       buckets=b) for b in (True, False)]
+            assert np.array_equal(out[0][0], out[1][0]) and np.array_equal(out[0][2], out[1][2])
+            assert np.array_equal(np.sort(out[0][0]), np.flatnonzero(role == 1))
+            runs += 1
+
+
 def test_supervariable_members_by_increasing_degree():
     # the members of one pivot supervariable come by increasing degree, ties in the kernel's merge
     # order: the same as NumPy's stable lexsort on (group, degree) of the unsorted members

@@ -29,10 +29,15 @@ operation cost a dozen atomic operations (27% of the time on a 10⁶-vertex grid
 ``perf``). Index arrays are 32-bit when the workspace fits (the caller picks the type through the
 ``tie`` array): half the memory traffic. The per-vertex fields read together (list start and
 length, element count, weight, state, stamps, degree, bucket and hash links) share one record
-``V[v]`` of 16 fields, so that a vertex costs one cache miss instead of one per array; the heap keeps each entry's key beside its slot, and
-under the approximate fill rules the variables of a new element keep their heap slots through the
+``V[v]`` of 16 fields, so that a vertex costs one cache miss instead of one per array. Under the
+approximate fill rules the variables of a new element keep their places in the queue through the
 step and get their new keys in place (one sift instead of a removal and an insertion). On the 10⁶-vertex
-grid these cut the kernel to about a third of the earlier time (score 0).
+grid these cut the kernel to about a third of the earlier time (score 0). The fill rules' queue
+keeps the whole-number keys of single variables in buckets and only the others (supervariables,
+large keys) in a 4-ary heap whose slots hold key and sequence number side by side: with one
+binary heap for every key, heap operations were half of the loop's time (8.5 ms on the 120² grid,
+4.2 ms with the pivots given); now 6.0 ms there, and 0.63 s instead of 1.0 s on the 10⁶-vertex
+grid, with the same orders.
 
 Implementation notes (compilation). numba's compile time grows with the number of statements of a
 function, and each compiled function is typed, lowered and optimised on its own: the first run of a
@@ -403,20 +408,83 @@ def _degree_bound(i, nvi, degme, nleft, V):
     return d
 
 
+@njit(inline="always")
+def _sift(kk, x, xk, xs, hsize, heap, hpos, hk, canup):
+    """Put the entry ``x`` (key ``xk``, negated sequence number ``xs``) into slot ``kk`` of the 4-ary
+    heap ``heap``/``hk`` of ``hsize`` entries, sifting it up (if ``canup``) or down; ``hpos``
+    follows every move. (Building the heap bottom-up sifts down only: the slots above are not a
+    heap yet.)"""
+    up = False
+    if canup and kk > 0:
+        pk = (kk - 1) >> 2
+        up = xk < hk[pk, 0] or (xk == hk[pk, 0] and xs < hk[pk, 1])
+    if up:
+        while kk > 0:
+            pk = (kk - 1) >> 2
+            if xk < hk[pk, 0] or (xk == hk[pk, 0] and xs < hk[pk, 1]):
+                u = heap[pk]
+                heap[kk] = u
+                hk[kk, 0] = hk[pk, 0]
+                hk[kk, 1] = hk[pk, 1]
+                hpos[u] = kk
+                kk = pk
+            else:
+                break
+    else:
+        while True:
+            c = 4 * kk + 1
+            if c >= hsize:
+                break
+            cend = c + 4 if c + 4 <= hsize else hsize
+            m = c
+            mk = hk[c, 0]
+            ms = hk[c, 1]
+            for cc in range(c + 1, cend):
+                ck = hk[cc, 0]
+                if ck < mk or (ck == mk and hk[cc, 1] < ms):
+                    m = cc
+                    mk = ck
+                    ms = hk[cc, 1]
+            if mk < xk or (mk == xk and ms < xs):
+                u = heap[m]
+                heap[kk] = u
+                hk[kk, 0] = mk
+                hk[kk, 1] = ms
+                hpos[u] = kk
+                kk = m
+            else:
+                break
+    heap[kk] = x
+    hk[kk, 0] = xk
+    hk[kk, 1] = xs
+    hpos[x] = kk
+
+
 @njit(cache=True, nogil=True)
-def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst, xlast,
-               pivots, heap, hpos, hval, hseq, tie):
+def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst, xlast,
+               pivots, heap, hpos, hk, vseq, bhead, tie):
     """The elimination loop of :func:`approximate_min_degree` under the fill rules (scores 1 and 2;
     the degree rule has a loop of its own, :mod:`reorder.kernels.mindegree_degree`).
 
     Resumable: the loop's scalars live in ``st``. Returns 0 when every vertex is ordered, else the
     workspace size it needs to go on (the caller grows ``ws`` and calls again; the pivot of the
-    interrupted step is kept in ``st``). The heap operations are spelled out where they are used,
-    so that no array crosses a function call in the hot loop. Every heap entry has a unique
-    sequence number that breaks ties of its key, so the minimum, and with it the order, does not
-    depend on the heap's layout: the pivot leaves the heap at the end of its step, in the same
-    sift as the variables merged or mass-eliminated in the step and the new keys of the others.
+    interrupted step is kept in ``st``).
+
+    The pivot is the variable of least (key, −sequence number): every queued key gets a new
+    sequence number, so ties go to the latest key and the order does not depend on how the queue is
+    kept. The queue has two parts. Keys of single variables are whole numbers (``d(d−1)/2 −
+    m(m−1)/2``); those below ``nb`` sit in buckets (``bhead``, links in the vertex records), each
+    a stack, so that its head holds the latest key: no comparison at all, as for degrees in the
+    degree rule. Keys of supervariables (fractions) and larger ones go to a 4-ary heap (``heap``,
+    ``hk`` = (key, −sequence) per slot, side by side: one cache line holds a node's children).
+    ``hpos[v]`` is ``v``'s heap slot, ``-2 - key`` in a bucket, ``-1`` not queued; ``vseq[v]`` the
+    sequence number of a bucket entry. With ``nb = 0`` every key goes to the heap (the reference
+    for the tests: the same order). Measured on the 120² grid (fill rule): the loop took 8.5 ms
+    with one binary heap, about half of it in heap operations; the buckets take most of them.
+    The bucket and heap operations are spelled out where they are used (no array crosses a
+    function call in the hot loop; :func:`_sift` is inlined).
     """
+    mindeg = st[_S_MINDEG]
     nel = st[_S_NEL]
     npiv = st[_S_NPIV]
     tick = st[_S_TICK]
@@ -430,68 +498,62 @@ def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhea
     mask = st[_S_MASK]
 
     if st[_S_INIT] == 0:
-        # ---- the initial heap, in tie order
+        # ---- the initial queue, in tie order (later entries win ties); the heap part is filled,
+        # then made a heap bottom-up
         st[_S_INIT] = 1
+        mindeg = nb
         for k in range(n):
             v = tie[k] if fifo else tie[n - 1 - k]
             if role[v] != 1 or V[v, _STATE] != _VAR:
                 continue
             hkv = _fill_score(float(V[v, _DEG]), 0.0, float(V[v, _WT]))
-            sq = seq
+            if V[v, _WT] == 1 and hkv < nb:
+                b = int(hkv)
+                h0 = bhead[b]
+                V[v, _BPREV] = -1
+                V[v, _BNEXT] = h0
+                if h0 != -1:
+                    V[h0, _BPREV] = v
+                bhead[b] = v
+                hpos[v] = -2 - b
+                vseq[v] = seq
+                if b < mindeg:
+                    mindeg = b
+            else:
+                heap[hsize] = v
+                hk[hsize, 0] = hkv
+                hk[hsize, 1] = -float(seq)
+                hpos[v] = hsize
+                hsize += 1
             seq += 1
-            kk = hsize
-            hsize += 1
-            while kk > 0:
-                pk = (kk - 1) >> 1
-                if hkv < hval[pk] or (hkv == hval[pk] and sq > hseq[pk]):
-                    u = heap[pk]
-                    heap[kk] = u
-                    hval[kk] = hval[pk]
-                    hseq[kk] = hseq[pk]
-                    hpos[u] = kk
-                    kk = pk
-                else:
-                    break
-            heap[kk] = v
-            hval[kk] = hkv
-            hseq[kk] = sq
-            hpos[v] = kk
+        for start in range((hsize - 2) // 4, -1, -1):
+            _sift(start, heap[start], hk[start, 0], hk[start, 1], hsize, heap, hpos, hk, False)
 
     while nel < ntodo:
         if resume >= 0:
             me = resume
             resume = -1
         else:
-            # ---- pivot: the variable of least fill score; the last entry of the heap takes its
-            # slot and sifts down
-            me = heap[0]
-            hpos[me] = -1
-            hsize -= 1
-            if hsize > 0:
-                x = heap[hsize]
-                xk = hval[hsize]
-                xs = hseq[hsize]
-                kk = 0
-                while True:
-                    c = 2 * kk + 1
-                    if c >= hsize:
-                        break
-                    if c + 1 < hsize:
-                        if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
-                            c += 1
-                    if hval[c] < xk or (hval[c] == xk and hseq[c] > xs):
-                        u = heap[c]
-                        heap[kk] = u
-                        hval[kk] = hval[c]
-                        hseq[kk] = hseq[c]
-                        hpos[u] = kk
-                        kk = c
-                    else:
-                        break
-                heap[kk] = x
-                hval[kk] = xk
-                hseq[kk] = xs
-                hpos[x] = kk
+            # ---- pivot: the least (key, -sequence) of the buckets' first non-empty stack and of
+            # the heap
+            while mindeg < nb and bhead[mindeg] == -1:
+                mindeg += 1
+            frombucket = False
+            if mindeg < nb:
+                me = bhead[mindeg]
+                frombucket = hsize == 0 or mindeg < hk[0, 0] or (mindeg == hk[0, 0] and -float(vseq[me]) < hk[0, 1])
+            if frombucket:
+                nx = V[me, _BNEXT]
+                bhead[mindeg] = nx
+                if nx != -1:
+                    V[nx, _BPREV] = -1
+                hpos[me] = -1
+            else:
+                me = heap[0]
+                hpos[me] = -1
+                hsize -= 1
+                if hsize > 0:
+                    _sift(0, heap[hsize], hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk, True)
             pivots[npiv] = me
             npiv += 1
             nvp = V[me, _WT]
@@ -503,6 +565,7 @@ def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhea
         degme, used, want = _new_element(me, ws, V, used, counters)
         if want > 0:
             # the caller grows the workspace and calls again with this pivot
+            st[_S_MINDEG] = mindeg
             st[_S_NEL] = nel
             st[_S_NPIV] = npiv
             st[_S_TICK] = tick
@@ -517,83 +580,78 @@ def _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhea
         lme1 = lme0 + V[me, _LEN]
 
         # ---- |Le \ Lme|, external degrees, absorption, mass elimination; supervariables. The
-        # variables of Lme keep their heap slots meanwhile (no pivot is taken before their new keys)
+        # variables of Lme keep their places in the queue meanwhile (no pivot is taken before
+        # their new keys)
         tick, degme, nel, nleft = _clique_degrees(me, lme0, lme1, tick, degme, nel, nleft, aggressive, mask, role, ws,
                                                   V, hhead, mnext, mlast, xfirst, xlast, counters)
         tock = _supervariables(lme0, lme1, tock, mask, role, ws, V, flag, hhead, mnext, mlast, counters)
 
-        # ---- finish the element: the pivot (first) and the variables of Lme merged or
-        # mass-eliminated in this step leave the heap, the others get their new keys in place
+        # ---- finish the element: the variables of Lme merged or mass-eliminated in this step
+        # leave the queue, the others get their new keys
         q = lme0
         for p in range(lme0, lme1):
             i = ws[p]
-            if V[i, _STATE] != _VAR:
-                kk = hpos[i]
-                if kk < 0:
-                    continue
-                # the last entry of the heap takes the slot
-                hpos[i] = -1
-                hsize -= 1
-                if kk == hsize:
-                    continue
-                x = heap[hsize]
-                xk = hval[hsize]
-                xs = hseq[hsize]
-            else:
+            alive = V[i, _STATE] == _VAR
+            if alive:
                 nvi = -V[i, _WT]
                 V[i, _WT] = nvi
                 ws[q] = i
                 q += 1
-                if role[i] != 1:
-                    continue
-                d = _degree_bound(i, nvi, degme, nleft, V)
-                V[i, _DEG] = d
-                m = V[i, _CLIQ] if V[i, _CLIQ] > degme else degme
-                xk = _fill_score(float(d), float(m - nvi), float(nvi))
-                if score == 2:
-                    xk *= nvi ** 0.5
-                xs = seq
-                seq += 1
-                x = i
-                kk = hpos[i]
-            # sift the entry x (key xk, sequence xs) up or down from slot kk
-            up = False
-            if kk > 0:
-                pk = (kk - 1) >> 1
-                up = xk < hval[pk] or (xk == hval[pk] and xs > hseq[pk])
-            if up:
-                while kk > 0:
-                    pk = (kk - 1) >> 1
-                    if xk < hval[pk] or (xk == hval[pk] and xs > hseq[pk]):
-                        u = heap[pk]
-                        heap[kk] = u
-                        hval[kk] = hval[pk]
-                        hseq[kk] = hseq[pk]
-                        hpos[u] = kk
-                        kk = pk
-                    else:
-                        break
+            kk = hpos[i]
+            if kk == -1:  # not queued (halo)
+                continue
+            if kk <= -2:
+                # out of its bucket
+                b = -2 - kk
+                pb = V[i, _BPREV]
+                nx = V[i, _BNEXT]
+                if pb == -1:
+                    bhead[b] = nx
+                else:
+                    V[pb, _BNEXT] = nx
+                if nx != -1:
+                    V[nx, _BPREV] = pb
+                hpos[i] = -1
+                kk = -1
+            if not alive:
+                if kk >= 0:
+                    # out of the heap: the last entry takes the slot
+                    hpos[i] = -1
+                    hsize -= 1
+                    if kk < hsize:
+                        _sift(kk, heap[hsize], hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk, True)
+                continue
+            d = _degree_bound(i, nvi, degme, nleft, V)
+            V[i, _DEG] = d
+            m = V[i, _CLIQ] if V[i, _CLIQ] > degme else degme
+            xk = _fill_score(float(d), float(m - nvi), float(nvi))
+            if score == 2:
+                xk *= nvi ** 0.5
+            if nvi == 1 and xk < nb:
+                if kk >= 0:
+                    # from the heap into a bucket
+                    hpos[i] = -1
+                    hsize -= 1
+                    if kk < hsize:
+                        _sift(kk, heap[hsize], hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk, True)
+                b = int(xk)
+                h0 = bhead[b]
+                V[i, _BPREV] = -1
+                V[i, _BNEXT] = h0
+                if h0 != -1:
+                    V[h0, _BPREV] = i
+                bhead[b] = i
+                hpos[i] = -2 - b
+                vseq[i] = seq
+                if b < mindeg:
+                    mindeg = b
             else:
-                while True:
-                    c = 2 * kk + 1
-                    if c >= hsize:
-                        break
-                    if c + 1 < hsize:
-                        if hval[c + 1] < hval[c] or (hval[c + 1] == hval[c] and hseq[c + 1] > hseq[c]):
-                            c += 1
-                    if hval[c] < xk or (hval[c] == xk and hseq[c] > xs):
-                        u = heap[c]
-                        heap[kk] = u
-                        hval[kk] = hval[c]
-                        hseq[kk] = hseq[c]
-                        hpos[u] = kk
-                        kk = c
-                    else:
-                        break
-            heap[kk] = x
-            hval[kk] = xk
-            hseq[kk] = xs
-            hpos[x] = kk
+                if kk < 0:
+                    # a new heap entry
+                    kk = hsize
+                    hsize += 1
+                _sift(kk, i, xk, -float(seq), hsize, heap, hpos, hk, True)
+            seq += 1
         V[me, _LEN] = q - lme0
         V[me, _EDEG] = degme
         if V[me, _LEN] == 0:
@@ -738,8 +796,12 @@ def _setup(n, indptr, indices, role, tie, elbow, score, compress):
     nh = n if useheap else 1  # the heap's arrays are not touched under the bucket rules
     heap = np.empty(nh, dtype=itype)
     hpos = _minus_ones(nh, ws)
-    hval = np.empty(nh, dtype=np.float64)  # key of the entry in heap slot k (kept with the slot,
-    hseq = np.empty(nh, dtype=np.int64)  # not the vertex: comparisons read neighbouring slots)
+    # key and sequence number of the entry in heap slot k under the exact rules (kept with the
+    # slot, not the vertex: comparisons read neighbouring slots); the fill rules keep them side by
+    # side in an array of their own (:func:`approximate_min_degree`) and use ``hseq`` for the
+    # sequence numbers of bucket entries, by vertex
+    hval = np.empty(n if score >= 4 else 1, dtype=np.float64)
+    hseq = np.empty(nh, dtype=np.int64)
     plist = np.empty(n if score >= 3 else 1, dtype=itype)
     counters = np.empty(7, dtype=np.int64)
     for k in range(7):
@@ -845,14 +907,18 @@ def _finish(ntodo, npiv, indptr, xfirst, mnext, pivots):
 
 
 @njit(cache=True, nogil=True)
-def approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress):
+def approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress, nb):
     """:func:`quotient_min_degree` under the approximate fill rules (``score`` 1 or 2; the degree
-    rule, 0, is :func:`reorder.kernels.mindegree_degree.degree_min_degree`)."""
+    rule, 0, is :func:`reorder.kernels.mindegree_degree.degree_min_degree`); keys of single
+    variables below ``nb`` (at most ``n + 1``) are kept in buckets (see :func:`_eliminate`)."""
     ws, V, flag, hhead, mnext, mlast, xfirst, xlast, bhead, btail, pivots, heap, hpos, hval, hseq, plist, \
         counters, st, stf = _setup(n, indptr, indices, role, tie, elbow, score, compress)
+    hk = np.empty((n, 2), dtype=np.float64)
+    if nb > n + 1:
+        nb = n + 1
     while True:
-        want = _eliminate(n, role, aggressive, fifo, score, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst,
-                          xlast, pivots, heap, hpos, hval, hseq, tie)
+        want = _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, hhead, mnext, mlast, xfirst,
+                          xlast, pivots, heap, hpos, hk, hseq, bhead, tie)
         if want == 0:
             break
         ws = _grow(ws, st[_S_USED], want, n)
@@ -862,7 +928,8 @@ def approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbo
     return out, counters, group
 
 
-def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False):
+def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, delta=0, compress=False,
+                        buckets=True):
     """Order the vertices with ``role == 1`` by approximate minimum external degree.
 
     Parameters
@@ -904,6 +971,9 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         Merge vertices with identical closed neighbourhoods into supervariables before the first
         elimination (e.g. the dofs of one node of an elasticity mesh), so that their degrees are
         external degrees from the start.
+    buckets : bool
+        Under the fill rules, keep the whole-number keys of single variables in buckets (the
+        default; the same order, faster); False keeps every key in the heap.
 
     Returns
     -------
@@ -925,4 +995,5 @@ def quotient_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, 
         from .mindegree_degree import degree_min_degree
 
         return degree_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, compress)
-    return approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress)
+    return approximate_min_degree(n, indptr, indices, role, tie, aggressive, fifo, elbow, score, compress,
+                                  n + 1 if buckets else 0)
