@@ -182,10 +182,10 @@ _DIRECTIONS3 = ((1, 1, 0), (1, -1, 0), (1, 0, 1), (1, 0, -1), (0, 1, 1), (0, 1, 
                 (1, 1, 1), (1, 1, -1), (1, -1, 1), (1, -1, -1))
 
 
-def _candidate_vectors(indptr, indices, ewgt, seed, k):
-    """Fiedler vector (and the next eigenvectors with their sums/differences; with three, the 10
-    diagonal directions of their span) of a small weighted graph from the spectral engine; BFS
-    distance as fallback."""
+def _candidate_vectors(indptr, indices, ewgt, seed, k, directions=len(_DIRECTIONS3)):
+    """Fiedler vector (and the next eigenvectors with their sums/differences; with three, the first
+    ``directions`` of the 10 diagonal directions of their span) of a small weighted graph from the
+    spectral engine; BFS distance as fallback."""
     from .spectral import fiedler_vector
 
     n = indptr.size - 1
@@ -203,7 +203,7 @@ def _candidate_vectors(indptr, indices, ewgt, seed, k):
                 a, b = V[:, 0], V[:, 1]
                 vecs += [a + b, a - b]
             elif V.shape[1] >= 3:
-                vecs += [V[:, :3] @ np.asarray(d, dtype=np.float64) for d in _DIRECTIONS3]
+                vecs += [V[:, :3] @ np.asarray(d, dtype=np.float64) for d in _DIRECTIONS3[:max(int(directions), 0)]]
         else:
             vecs = [res.vector]
     except Exception as exc:  # eigensolver failure: fall back to a level structure
@@ -242,7 +242,8 @@ def _score(w, maxside):
 def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE, multilevel: bool = True,
                      refine: bool = True, mode: str = "window", coarse_size: int = COARSE_SIZE,
                      eigenvectors: int = 2, spectral_min: int = 2000, bfs_starts: int = 4,
-                     keep: int = 3, smooth: int = 4, smooth_refine: int = 4) -> Separator:
+                     keep: int = 3, smooth: int = 4, smooth_refine: int = 4,
+                     directions: int = len(_DIRECTIONS3)) -> Separator:
     """Vertex separator of a connected graph: coarsen, split spectrally, cover, refine, project.
 
     Parameters
@@ -278,6 +279,10 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
     smooth_refine : int
         Of the smoothed vectors' separators, only the ``smooth_refine`` of least cover are refined
         (FM on the finest level is the costly step).
+    directions : int
+        With three eigenvectors, how many of the 10 diagonal directions are tried (the face
+        diagonals of the first two eigenvectors come first, then the others): each costs a smoothed
+        vector and a split on the finest level, so the ramp of ``normal`` gives them up one by one.
     keep : int
         The best ``keep`` distinct coarsest-level separators are each projected and refined up to
         the finest level, where the best is kept (the coarse separator weight predicts the final one
@@ -305,7 +310,8 @@ def vertex_separator(indptr, indices, *, seed: int = 0, balance: float = BALANCE
     info = {}
     vecs = []
     if n >= spectral_min or not multilevel:
-        vecs, info = _candidate_vectors(c.indptr, c.indices, c.ewgt, seed, eigenvectors if mode == "window" else 1)
+        vecs, info = _candidate_vectors(c.indptr, c.indices, c.ewgt, seed, eigenvectors if mode == "window" else 1,
+                                        directions)
         if mode == "median":
             vecs = vecs[:1]
     nspectral = len(vecs)

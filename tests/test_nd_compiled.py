@@ -187,7 +187,8 @@ def test_normal_ramp_gives_up_effort_gradually():
     # no cliff (issue 16): across the ramp of the normal preset, the trials and the top eigenvectors
     # of each size of top subproblem (root, children, grandchildren: n, n/2, n/4 vertices) never
     # come back as n grows; between sizes 1.25x apart no top subproblem loses more than one trial,
-    # and at most one level of them loses the third eigenvector (it used to leave all levels at once)
+    # and at most one level of them loses the third eigenvector (it used to leave all levels at once);
+    # the root tries ever fewer of the directions its three eigenvectors span before it loses the third
     from reorder.orderings.nd.presets import RAMP_END, RAMP_START, ramp
 
     def effort(n):
@@ -203,6 +204,11 @@ def test_normal_ramp_gives_up_effort_gradually():
         assert all(y <= x for x, y in zip(ta, tb)) and all(y <= x for x, y in zip(ea, eb))
         assert max(x - y for x, y in zip(ta, tb)) <= 1
         assert sum(x != y for x, y in zip(ea, eb)) <= 1
+        # the root's spectral vectors (three eigenvectors and some of the 10 diagonal directions of
+        # their span, else two and their sum and difference) go at most three at a time
+        va, vb = (3 + ramp(x)["eig_directions"] if e[0] == 3 else 4 for x, e in ((a, ea), (b, eb)))
+        assert 0 <= va - vb <= 3
+    assert ramp(sizes[0])["eig_directions"] == 10 and ramp(sizes[-1])["eig_directions"] == 2
 
 
 def test_multisection_is_given_up_level_by_level():

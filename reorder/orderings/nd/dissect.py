@@ -65,7 +65,7 @@ def _best_separator(ip, ix, s, r: Resolved, *, seed: int, node: int, top: bool, 
                                 multilevel=s.multilevel, refine=s.refine, mode=s.split, coarse_size=s.coarse_size,
                                 eigenvectors=r.eigenvectors[top and m >= r.eig_min], spectral_min=r.spectral_min,
                                 keep=r.keep[top], smooth=r.smooth[top] if m >= r.smooth_min else 0,
-                                smooth_refine=r.smooth_refine)
+                                smooth_refine=r.smooth_refine, directions=r.eig_directions)
 
     if threads > 1 and ntr > 1:
         with ThreadPoolExecutor(max_workers=min(threads, ntr), thread_name_prefix="reorder-trial") as pool:

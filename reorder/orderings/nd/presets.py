@@ -30,7 +30,7 @@ import numpy as np
 from ..records import EFFORTS
 
 __all__ = ["EFFORTS", "MID", "LARGE", "RAMP_START", "HUGE", "RAMP_END", "CLIMB", "LEAF_PARTS", "ALL_RULES", "TABLE", "size_class", "ramp", "ramp_fast",
-           "multisection_floor", "MS_START", "MS_END",
+           "multisection_floor", "MS_START", "MS_END", "eig_directions", "ROOT_EIG_OFF",
            "Resolved", "resolve"]
 
 
@@ -133,12 +133,22 @@ class Resolved:
     extra_trial_min: int = 0
     smooth_refine: int = 4
     multisection_min: int = 0
+    eig_directions: int = 10
 
 
 #: the ``normal`` ramp's top eigenvectors reach ever fewer top subproblems from ``f`` =
-#: :data:`EIG_FROM` on (those of at least ``_eig_share(f) · n`` vertices) and none from
-#: :data:`EIG_OFF` on
+#: :data:`EIG_FROM` on (those of at least ``_eig_share(f) · n`` vertices; the share rises
+#: geometrically to 1.2 at :data:`EIG_OFF`) and none from :data:`ROOT_EIG_OFF` on: the root keeps
+#: them longest, while :func:`eig_directions` takes its diagonal directions away one by one
 EIG_FROM, EIG_OFF = 0.3, 0.68
+#: where the root gives up its third eigenvector (and its two extra face diagonals), together with
+#: its smoothing (:data:`SMOOTH_OFF`: without smoothing, the directions cost little)
+ROOT_EIG_OFF = 0.95
+#: :func:`eig_directions` starts taking directions away here (the children have given up their
+#: third eigenvector at f ≈ 0.51) ...
+DIR_FROM = 0.62
+#: ... and has taken all but the two face diagonals here
+DIR_TO = 0.86
 
 
 def _top_share(f: float) -> float:
@@ -154,10 +164,34 @@ def _eig_share(f: float) -> float:
     without; the decline of the other settings alone gave 1.3x there), so each level of top
     subproblems (grandchildren, children, root: each about n vertices of work) gives them up at its
     own size."""
+    if f >= ROOT_EIG_OFF:
+        return 1.2
     if f <= EIG_FROM:
         return _top_share(f)
     t = min((f - EIG_FROM) / (EIG_OFF - EIG_FROM), 1.0)
-    return _top_share(EIG_FROM) ** (1.0 - t) * 1.2 ** t
+    return min(_top_share(EIG_FROM) ** (1.0 - t) * 1.2 ** t, 1.0)  # the root keeps them to ROOT_EIG_OFF
+
+
+def eig_directions(f: float) -> int:
+    """How many of the 10 diagonal directions of three eigenvectors the top subproblems still try
+    at ramp position ``f``: 10 up to :data:`DIR_FROM`, then one fewer every (DIR_TO − DIR_FROM) / 8,
+    down to the 2 face diagonals of the first two eigenvectors at :data:`DIR_TO`; the root keeps
+    those and the third eigenvector up to :data:`ROOT_EIG_OFF`.
+
+    Each direction costs a smoothed vector and a split of the whole graph (on the root about
+    0.1-0.15 s each at 546²-611²): with all 13 vectors the root was about a quarter of the CPU time
+    on a 611² grid, and dropping them all at once (the root's third eigenvector left at f ≈ 0.645)
+    made t/(n·log₂n) fall 1.57x (wall) / 1.54x (CPU) between 546² and 611² grids. Measured in one
+    session, least of two runs per size, 437²-954²: largest step 1.49x wall / 1.46x CPU with this
+    schedule (611² → 683², where the children's second trial and a smoothing refinement go too);
+    with the directions taken between f = 0.52 and 0.80 and the root's eigenvector at 0.80, 1.61x
+    (489² → 546²); between 0.62 and 0.90, 1.52x CPU (763² → 854²). The separators on 611²-763²
+    grids were the same (nnz(L) and operations equal to the schedule before).
+    """
+    if f <= DIR_FROM:
+        return 10
+    t = min((f - DIR_FROM) / (DIR_TO - DIR_FROM), 1.0)
+    return int(round(10.0 - 8.0 * t))
 
 
 #: from this ramp position on nothing is smoothed any more (the root, the last subproblem smoothed,
@@ -218,8 +252,9 @@ def ramp(n: int) -> dict | None:
     return dict(a, top_trials=whole, extra_trial_min=extra_min, keep=keep, top_keep=keep,
                 spectral_min=spectral_min, smooth_min=geo(spectral_min, n) if f < SMOOTH_OFF else n + 1,
                 hybrid_single=geo(n, a["leaf_size"]),
-                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < EIG_OFF else b["top_eigenvectors"],
-                eig_min=int(np.ceil(n * _eig_share(f))), smooth_refine=_smooth_refine(f),
+                leaf_size=leaf, top_eigenvectors=a["top_eigenvectors"] if f < ROOT_EIG_OFF else b["top_eigenvectors"],
+                eig_min=int(np.ceil(n * _eig_share(f))), eig_directions=eig_directions(f),
+                smooth_refine=_smooth_refine(f),
                 hybrid_max=geo(n, b["hybrid_max"]), hybrid_wide=geo(a["hybrid_wide"], a["leaf_size"]),
                 hybrid_climb=geo(CLIMB, b["hybrid_max"]), trials_min=geo(leaf, n),
                 top_fraction=_top_share(f), leaf_parts=LEAF_PARTS)
@@ -305,4 +340,4 @@ def resolve(s, n: int) -> Resolved:
         smooth_min=int(row.get("smooth_min", 0)), hybrid_single=row.get("hybrid_single"),
         leaf_parts=int(row.get("leaf_parts", 1)), eig_min=int(row.get("eig_min", 0)),
         extra_trial_min=int(row.get("extra_trial_min", 0)) if s.top_trials is None else 0,
-        smooth_refine=int(row.get("smooth_refine", 4)))
+        smooth_refine=int(row.get("smooth_refine", 4)), eig_directions=int(row.get("eig_directions", 10)))
