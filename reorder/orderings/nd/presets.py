@@ -224,8 +224,9 @@ def ramp(n: int) -> dict | None:
     0.5. The discrete settings change gradually or at sizes apart from each other: top trials
     6^(1−f) (the fractional part as one more trial on the top subproblems of at least (1 − part)·n
     vertices, so that a trial leaves the smaller top subproblems first), carried candidates 3 → 2 → 1
-    (f = 0.24, 0.40), the third top eigenvector leaves the top subproblems level by level between
-    f = 0.3 and 0.68 (:func:`_eig_share`); with whole trials switching at f ≈ 0.51 and 0.77 and the
+    (f = 0.24, 0.40), the third top eigenvector leaves the top subproblems below the root level by level between
+    f = 0.3 and 0.65 (:func:`_eig_share`), the root tries ever fewer of the directions it spans
+    (:func:`eig_directions`) and gives it up at f = 0.95; with whole trials switching at f ≈ 0.51 and 0.77 and the
     eigenvector at 0.63 the steps were 1.34-1.81x between 488² and 763² grids (CPU, one run), now
     1.35-1.51x. Measured before (one thread, CPU time per n·log₂n, loaded
     machine): with the third eigenvector and a top trial both stopping at f = 1/2 a step of 1.54×
