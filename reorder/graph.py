@@ -134,14 +134,16 @@ def _pattern_graph(matrix) -> Graph | None:
     length = np.diff(ptr)
     rows = np.repeat(np.arange(n, dtype=idx.dtype), length)
     off = idx != rows
-    if off.all():
+    ndiag = idx.size - int(np.count_nonzero(off))
+    if ndiag == 0:
         indptr, indices = ptr, idx
     else:
-        # canonical: at most one diagonal entry per row
-        length = length - np.bincount(rows[~off], minlength=n)
+        # canonical: at most one diagonal entry per row, so n of them means one in every row (the
+        # usual case: no count per row needed)
+        length = length - (1 if ndiag == n else np.bincount(rows[~off], minlength=n))
         indptr = np.zeros(n + 1, dtype=np.int64)
         np.cumsum(length, out=indptr[1:])
-        indices = idx[off]
+        indices = np.compress(off, idx)
     P = sp.csr_matrix((np.ones(indices.size, dtype=np.int8), indices, indptr), shape=(n, n))
     PT = P.T.tocsr()  # (SciPy's conversion leaves each row's indices sorted)
     pattern_symmetric = bool(np.array_equal(P.indptr, PT.indptr) and np.array_equal(P.indices, PT.indices))

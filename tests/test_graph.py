@@ -74,12 +74,18 @@ def test_every_input_format_gives_the_same_graph_as_dense_numpy():
     # reference: NumPy on the dense structure, (S | S.T) without the diagonal. CSR/CSC in canonical
     # form take the copy-free path, COO, unsorted CSR and sparse arrays the general one; explicit
     # zeros are structural entries either way
+    # (a diagonal entry in some rows, in every row, in none: the copy-free path counts them per row
+    # only in the first case)
     rng = np.random.default_rng(7)
-    for sym in (False, True):
+    for sym, diag in ((False, "some"), (True, "some"), (True, "all"), (False, "none")):
         n = 60
         rows, cols = rng.integers(0, n, 400), rng.integers(0, n, 400)
         if sym:
             rows, cols = np.concatenate((rows, cols)), np.concatenate((cols, rows))
+        if diag == "all":
+            rows, cols = np.concatenate((rows, np.arange(n))), np.concatenate((cols, np.arange(n)))
+        elif diag == "none":
+            rows, cols = rows[rows != cols], cols[rows != cols]
         vals = rng.choice([0.0, 1.0, -2.0], rows.size)
         coo = sp.coo_matrix((vals, (rows, cols)), shape=(n, n))
         S = np.zeros((n, n), dtype=bool)
