@@ -96,8 +96,14 @@ def symbolic_factor(graph: Graph, perm=None) -> Symbolic:
     if isinstance(known, Symbolic):
         return known
     inv = inverse(perm)
-    parent = _k.etree(n, graph.indptr, graph.indices, perm, inv) if known is None else known
-    post = _k.postorder(parent)
+    if known is None:
+        parent = _k.etree(n, graph.indptr, graph.indices, perm, inv)
+        post = _k.postorder(parent)
+    else:
+        # a tree remembered by etree_postorder: its order is a postorder of that tree, numbered in
+        # the very sequence _k.postorder visits it (children in increasing order), so the
+        # postorder is the identity
+        parent, post = known, np.arange(n, dtype=np.int64)
     counts = _k.column_counts(n, graph.indptr, graph.indices, perm, inv, parent, post)
     depth = _k.tree_depths(parent)
     for a in (parent, post, counts, depth):

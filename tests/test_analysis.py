@@ -227,6 +227,12 @@ def test_remembered_tree_after_a_postorder_matches_numpy_dense_cholesky(seed):
     np.testing.assert_array_equal(sym.colcounts, L.sum(axis=0))
     parent = [next((i for i in range(j + 1, n) if L[i, j]), -1) for j in range(n)]
     np.testing.assert_array_equal(sym.parent, parent)
+    # the postorder taken as known is the identity, and the identity is a postorder of NumPy's tree
+    # (Liu 1990: a postorder numbers every subtree consecutively, its root last)
+    np.testing.assert_array_equal(sym.post, np.arange(n))
+    for j in range(n):
+        sub = [k for k in range(n) if k == j or _is_ancestor(parent, j, k)]
+        assert sub == list(range(j - len(sub) + 1, j + 1))
     assert symbolic_factor(G, q) is sym  # asked again: the same result
     other = q[::-1].copy()
     L2 = np.abs(np.linalg.cholesky(A.toarray()[np.ix_(other, other)])) > 1e-12
