@@ -36,8 +36,9 @@ grid these cut the kernel to about a third of the earlier time (score 0). The fi
 keeps the whole-number keys of single variables in buckets and only the others (supervariables,
 large keys) in a 4-ary heap whose slots hold key and sequence number side by side: with one
 binary heap for every key, heap operations were half of the loop's time (8.5 ms on the 120² grid,
-4.2 ms with the pivots given); now 6.0 ms there, and 0.63 s instead of 1.0 s on the 10⁶-vertex
-grid, with the same orders.
+4.2 ms with the pivots given); now 6.3 ms there, and 0.59 s instead of 0.89 s on the 10⁶-vertex
+grid, with the same orders. The heap's sift is a called kernel (:func:`_sift`), not inlined: the
+compilation of the first run is what that buys (6.2 s against 9.1 s inlined, 5.6 s before).
 
 Implementation notes (compilation). numba's compile time grows with the number of statements of a
 function, and each compiled function is typed, lowered and optimised on its own: the first run of a
@@ -408,14 +409,18 @@ def _degree_bound(i, nvi, degme, nleft, V):
     return d
 
 
-@njit(inline="always")
-def _sift(kk, x, xk, xs, hsize, heap, hpos, hk, canup):
+@njit(cache=True, nogil=True)
+def _sift(kk, x, xk, xs, hsize, heap, hpos, hk):
     """Put the entry ``x`` (key ``xk``, negated sequence number ``xs``) into slot ``kk`` of the 4-ary
-    heap ``heap``/``hk`` of ``hsize`` entries, sifting it up (if ``canup``) or down; ``hpos``
-    follows every move. (Building the heap bottom-up sifts down only: the slots above are not a
-    heap yet.)"""
+    heap ``heap``/``hk`` of ``hsize`` entries, sifting it up or down; ``hpos`` follows every move.
+    Callers pass ``kk`` and ``x`` as int64 (one compiled signature).
+
+    A called kernel, not inlined: inlined at its five call sites it made the first compilation of
+    :func:`_eliminate` 3.5 s longer (9.1 s against 5.6 s before the buckets; now 6.7 s). With the
+    buckets taking the keys of single variables, the heap is busy only with supervariables, where
+    the call costs about 5% of the loop (an elasticity mesh whose vertices all merge in pairs)."""
     up = False
-    if canup and kk > 0:
+    if kk > 0:
         pk = (kk - 1) >> 2
         up = xk < hk[pk, 0] or (xk == hk[pk, 0] and xs < hk[pk, 1])
     if up:
@@ -481,8 +486,8 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
     sequence number of a bucket entry. With ``nb = 0`` every key goes to the heap (the reference
     for the tests: the same order). Measured on the 120² grid (fill rule): the loop took 8.5 ms
     with one binary heap, about half of it in heap operations; the buckets take most of them.
-    The bucket and heap operations are spelled out where they are used (no array crosses a
-    function call in the hot loop; :func:`_sift` is inlined).
+    The bucket operations are spelled out where they are used (no array crosses a function call
+    in the hot loop); heap moves call :func:`_sift` (rare where the buckets take the keys).
     """
     mindeg = st[_S_MINDEG]
     nel = st[_S_NEL]
@@ -498,8 +503,7 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
     mask = st[_S_MASK]
 
     if st[_S_INIT] == 0:
-        # ---- the initial queue, in tie order (later entries win ties); the heap part is filled,
-        # then made a heap bottom-up
+        # ---- the initial queue, in tie order (later entries win ties)
         st[_S_INIT] = 1
         mindeg = nb
         for k in range(n):
@@ -520,14 +524,9 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
                 if b < mindeg:
                     mindeg = b
             else:
-                heap[hsize] = v
-                hk[hsize, 0] = hkv
-                hk[hsize, 1] = -float(seq)
-                hpos[v] = hsize
                 hsize += 1
+                _sift(int(hsize - 1), int(v), hkv, -float(seq), hsize, heap, hpos, hk)
             seq += 1
-        for start in range((hsize - 2) // 4, -1, -1):
-            _sift(start, heap[start], hk[start, 0], hk[start, 1], hsize, heap, hpos, hk, False)
 
     while nel < ntodo:
         if resume >= 0:
@@ -553,7 +552,7 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
                 hpos[me] = -1
                 hsize -= 1
                 if hsize > 0:
-                    _sift(0, heap[hsize], hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk, True)
+                    _sift(int(0), int(heap[hsize]), hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk)
             pivots[npiv] = me
             npiv += 1
             nvp = V[me, _WT]
@@ -619,7 +618,7 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
                     hpos[i] = -1
                     hsize -= 1
                     if kk < hsize:
-                        _sift(kk, heap[hsize], hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk, True)
+                        _sift(int(kk), int(heap[hsize]), hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk)
                 continue
             d = _degree_bound(i, nvi, degme, nleft, V)
             V[i, _DEG] = d
@@ -633,7 +632,7 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
                     hpos[i] = -1
                     hsize -= 1
                     if kk < hsize:
-                        _sift(kk, heap[hsize], hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk, True)
+                        _sift(int(kk), int(heap[hsize]), hk[hsize, 0], hk[hsize, 1], hsize, heap, hpos, hk)
                 b = int(xk)
                 h0 = bhead[b]
                 V[i, _BPREV] = -1
@@ -650,7 +649,7 @@ def _eliminate(n, role, aggressive, fifo, score, nb, st, counters, ws, V, flag, 
                     # a new heap entry
                     kk = hsize
                     hsize += 1
-                _sift(kk, i, xk, -float(seq), hsize, heap, hpos, hk, True)
+                _sift(int(kk), int(i), xk, -float(seq), hsize, heap, hpos, hk)
             seq += 1
         V[me, _LEN] = q - lme0
         V[me, _EDEG] = degme
