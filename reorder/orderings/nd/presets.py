@@ -141,9 +141,11 @@ class Resolved:
 #: geometrically to 1.2 at :data:`EIG_OFF`) and none from :data:`ROOT_EIG_OFF` on: the root keeps
 #: them longest, while :func:`eig_directions` takes its diagonal directions away one by one
 EIG_FROM, EIG_OFF = 0.3, 0.68
-#: where the root gives up its third eigenvector (and its two extra face diagonals), together with
-#: its smoothing (:data:`SMOOTH_OFF`: without smoothing, the directions cost little)
-ROOT_EIG_OFF = 0.95
+#: where the root gives up its third eigenvector (its five smoothed vectors become four), between
+#: the 682² and 763² grids. At 0.95, together with the root's smoothing (:data:`SMOOTH_OFF`),
+#: 763² → 853² fell 1.52x (end run of the fifth session); here the two steps around it measured
+#: 1.45x and 1.47x (least of two runs per size, wall and CPU alike)
+ROOT_EIG_OFF = 0.87
 #: :func:`eig_directions` starts taking directions away here (the children have given up their
 #: third eigenvector at f ≈ 0.51) ...
 DIR_FROM = 0.62
@@ -183,10 +185,12 @@ def eig_directions(f: float) -> int:
     on a 611² grid, and dropping them all at once (the root's third eigenvector left at f ≈ 0.645)
     made t/(n·log₂n) fall 1.57x (wall) / 1.54x (CPU) between 546² and 611² grids. Measured in one
     session, least of two runs per size, 437²-954²: largest step 1.49x wall / 1.46x CPU with this
-    schedule (611² → 683², where the children's second trial and a smoothing refinement go too);
-    with the directions taken between f = 0.52 and 0.80 and the root's eigenvector at 0.80, 1.61x
-    (489² → 546²); between 0.62 and 0.90, 1.52x CPU (763² → 854²). The separators on 611²-763²
-    grids were the same (nnz(L) and operations equal to the schedule before).
+    schedule and the root's eigenvector at 0.95 (611² → 683², where the children's second trial
+    and a smoothing refinement go too; 1.52x at 763² → 853² in a later run, hence
+    :data:`ROOT_EIG_OFF` 0.87: at most 1.47x over 546²-954²); with the directions taken between
+    f = 0.52 and 0.80 and the root's eigenvector at 0.80, 1.61x (489² → 546²); between 0.62 and
+    0.90, 1.52x CPU (763² → 854²). The separators on 611²-763² grids were the same (nnz(L) and
+    operations equal to the schedule before).
     """
     if f <= DIR_FROM:
         return 10
